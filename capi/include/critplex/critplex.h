@@ -1,0 +1,167 @@
+/*
+ * critplex: topology of functional brain networks, behind a stable C interface.
+ *
+ * This is the only public header. It is C99 and also valid C++.
+ *
+ * Conventions (they hold for every function below):
+ *  - Every call that can fail returns cpx_status; CPX_OK (0) means success. On failure
+ *    cpx_last_error() returns a message for the calling thread that names the argument,
+ *    file, line or value at fault. Outputs are left untouched on failure.
+ *  - Objects are opaque handles made by a create, read or compute call and released by the
+ *    matching free call, which accepts NULL.
+ *  - Options are JSON text (an object; NULL or "" means defaults). Unknown keys are an
+ *    error, so a typo never passes silently. The README documents every key.
+ *  - Arrays going in are a pointer, explicit sizes and a cpx_layout flag (MATLAB, R and
+ *    Julia hold matrices column-major; C and NumPy row-major by default).
+ *  - Arrays coming out use two calls: ask the size, then copy into the caller's buffer,
+ *    whose length the caller passes; a short buffer is an error, never an overrun.
+ *  - Strings the library allocates (char** outputs) are released with cpx_string_free.
+ *  - Long calls take an optional progress callback; NULL is always allowed. A non-zero
+ *    return from the callback cancels the call, which then returns CPX_ERR_CANCELLED.
+ *  - Independent handles may be used from different threads at the same time.
+ */
+#ifndef CRITPLEX_H
+#define CRITPLEX_H
+
+#include <stddef.h>
+#include <stdint.h>
+
+#include <critplex/critplex_version.h>
+
+#if defined(_WIN32)
+#  if defined(CRITPLEX_BUILDING)
+#    define CPX_API __declspec(dllexport)
+#  else
+#    define CPX_API __declspec(dllimport)
+#  endif
+#elif defined(__GNUC__)
+#  define CPX_API __attribute__((visibility("default")))
+#else
+#  define CPX_API
+#endif
+
+#ifdef __cplusplus
+extern "C" {
+#endif
+
+/* ------------------------------------------------------------------------------------ */
+/* Status, errors, versions, memory                                                      */
+/* ------------------------------------------------------------------------------------ */
+
+typedef enum cpx_status {
+  CPX_OK = 0,
+  CPX_ERR_ARGUMENT = 1,  /* a bad argument or option value */
+  CPX_ERR_IO = 2,        /* a file cannot be opened, read or written */
+  CPX_ERR_PARSE = 3,     /* a file or text has the wrong format */
+  CPX_ERR_DATA = 4,      /* well-formed input whose values cannot be used */
+  CPX_ERR_BUDGET = 5,    /* a budget was exhausted where a partial result is not allowed */
+  CPX_ERR_CANCELLED = 6, /* the progress callback asked to stop */
+  CPX_ERR_OVERFLOW = 7,  /* an exact value does not fit the requested output type */
+  CPX_ERR_MEMORY = 8,    /* out of memory */
+  CPX_ERR_INTERNAL = 9   /* a bug in critplex: please report it with the message */
+} cpx_status;
+
+typedef enum cpx_layout {
+  CPX_ROW_MAJOR = 0,   /* element (i, j) at i * columns + j */
+  CPX_COL_MAJOR = 1    /* element (i, j) at j * rows + i */
+} cpx_layout;
+
+/* Progress: fraction in [0, 1]; return non-zero to cancel. */
+typedef int (*cpx_progress_fn)(double fraction, void* user);
+
+/* Version of the library actually loaded ("MAJOR.MINOR.PATCH"), static storage. */
+CPX_API const char* cpx_version(void);
+/* ABI version of the library actually loaded; compare with CPX_ABI_VERSION. */
+CPX_API int cpx_abi_version(void);
+/* Message of the last failed call on this thread ("" if none). Valid until the next call. */
+CPX_API const char* cpx_last_error(void);
+/* Short name of a status ("CPX_ERR_IO"), static storage. */
+CPX_API const char* cpx_status_name(cpx_status status);
+/* Releases a string the library allocated; NULL is allowed. */
+CPX_API void cpx_string_free(char* text);
+
+/* ------------------------------------------------------------------------------------ */
+/* Time series: T frames (rows) by N regions (columns)                                   */
+/* ------------------------------------------------------------------------------------ */
+
+typedef struct cpx_series cpx_series;
+
+/* Copies frames x regions values. region_names may be NULL (names become "R1", "R2", ...). */
+CPX_API cpx_status cpx_series_create(const double* data, size_t frames, size_t regions, cpx_layout layout,
+                                     const char* const* region_names, cpx_series** out);
+/* Reads TSV/CSV with a header row of region names, whitespace-separated text without a
+ * header, or NPY (float64/float32, C or Fortran order). Options: see README
+ * ("format": "auto"|"tsv"|"csv"|"text"|"npy", "header": "auto"|true|false). */
+CPX_API cpx_status cpx_series_read(const char* path, const char* options_json, cpx_series** out);
+CPX_API void cpx_series_free(cpx_series* series);
+CPX_API cpx_status cpx_series_shape(const cpx_series* series, size_t* frames, size_t* regions);
+/* Copies the values into buffer (length >= frames * regions) in the given layout. */
+CPX_API cpx_status cpx_series_copy(const cpx_series* series, double* buffer, size_t buffer_length,
+                                   cpx_layout layout);
+/* Name of region `index` (0-based); release with cpx_string_free. */
+CPX_API cpx_status cpx_series_region_name(const cpx_series* series, size_t index, char** name);
+
+/* ------------------------------------------------------------------------------------ */
+/* Matrices: N x N connectivity, symmetric                                               */
+/* ------------------------------------------------------------------------------------ */
+
+typedef struct cpx_matrix cpx_matrix;
+
+/* Copies an n x n matrix. names may be NULL. */
+CPX_API cpx_status cpx_matrix_create(const double* data, size_t n, cpx_layout layout,
+                                     const char* const* names, cpx_matrix** out);
+/* Reads a square matrix (TSV, CSV, whitespace text or NPY; with or without a header row
+ * of names, and with or without a first column of names). */
+CPX_API cpx_status cpx_matrix_read(const char* path, const char* options_json, cpx_matrix** out);
+CPX_API void cpx_matrix_free(cpx_matrix* matrix);
+CPX_API cpx_status cpx_matrix_size(const cpx_matrix* matrix, size_t* n);
+CPX_API cpx_status cpx_matrix_copy(const cpx_matrix* matrix, double* buffer, size_t buffer_length,
+                                   cpx_layout layout);
+CPX_API cpx_status cpx_matrix_name(const cpx_matrix* matrix, size_t index, char** name);
+/* What the estimator reports beside the matrix (method, shrinkage intensity, frames
+ * used, ...) as a JSON object; release with cpx_string_free. */
+CPX_API cpx_status cpx_matrix_info(const cpx_matrix* matrix, char** json);
+/* Writes the matrix to path atomically (a temporary file renamed into place; nothing is
+ * left behind on failure). Options: {"format": "tsv"|"json"|"npy"} (default: from the
+ * file extension, else tsv). */
+CPX_API cpx_status cpx_matrix_write(const cpx_matrix* matrix, const char* path, const char* options_json);
+
+/* ------------------------------------------------------------------------------------ */
+/* Connectivity: series -> matrix                                                        */
+/* ------------------------------------------------------------------------------------ */
+
+/* Estimates connectivity. Options (README, "connect options"): {"method": "pearson", ...,
+ * "fisher_z": false}. */
+CPX_API cpx_status cpx_connect(const cpx_series* series, const char* options_json, cpx_matrix** out);
+
+/* ------------------------------------------------------------------------------------ */
+/* Sweep: matrix -> filtration -> curves (cliques, chi, Betti, curvature, transitions)   */
+/* ------------------------------------------------------------------------------------ */
+
+typedef struct cpx_sweep cpx_sweep;
+
+/* Runs the density filtration of `matrix` and every engine the options ask for. Options
+ * (README, "sweep options"): {"weights", "max_density", "grid", "cliques", "homology",
+ * "curvature", "transitions"}. progress may be NULL. */
+CPX_API cpx_status cpx_sweep_run(const cpx_matrix* matrix, const char* options_json, cpx_progress_fn progress,
+                                 void* user, cpx_sweep** out);
+CPX_API void cpx_sweep_free(cpx_sweep* sweep);
+/* The whole result as one JSON document (exact counts as decimal strings). */
+CPX_API cpx_status cpx_sweep_json(const cpx_sweep* sweep, char** json);
+/* The curves on the grid as TSV text, one column per curve (header row first). */
+CPX_API cpx_status cpx_sweep_curves_tsv(const cpx_sweep* sweep, char** tsv);
+/* Number of grid points and number of curve columns. */
+CPX_API cpx_status cpx_sweep_shape(const cpx_sweep* sweep, size_t* points, size_t* columns);
+/* Name of curve column `index` ("density", "chi", "cliques_2", "betti_1", ...). */
+CPX_API cpx_status cpx_sweep_column_name(const cpx_sweep* sweep, size_t index, char** name);
+/* Copies the curve named `column` as doubles (one per grid point; exact integers beyond
+ * 2^53 are rounded here, use cpx_sweep_json for exact values). */
+CPX_API cpx_status cpx_sweep_curve(const cpx_sweep* sweep, const char* column, double* buffer, size_t buffer_length);
+
+/* --- stage sections below are added by the stages that own them ----------------------- */
+
+#ifdef __cplusplus
+} /* extern "C" */
+#endif
+
+#endif /* CRITPLEX_H */

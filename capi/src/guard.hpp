@@ -1,0 +1,62 @@
+// The boundary between C callers and the C++ core: argument checks, exception to
+// status translation, the thread-local error message and library-owned strings.
+#pragma once
+
+#include <critplex/critplex.h>
+
+#include <cstring>
+#include <exception>
+#include <new>
+#include <string>
+
+#include "base/error.hpp"
+
+namespace critplex::capi {
+
+void set_error(const std::string& message);
+void clear_error();
+
+// Runs `body`; any exception becomes a status and a message. Nothing escapes.
+template <class Body>
+cpx_status guard(const char* function, Body&& body) noexcept {
+  try {
+    clear_error();
+    body();
+    return CPX_OK;
+  } catch (const Error& e) {
+    set_error(std::string(function) + ": " + e.what());
+    return static_cast<cpx_status>(static_cast<int>(e.kind()));
+  } catch (const std::bad_alloc&) {
+    set_error(std::string(function) + ": out of memory");
+    return CPX_ERR_MEMORY;
+  } catch (const std::exception& e) {
+    set_error(std::string(function) + ": internal error: " + e.what());
+    return CPX_ERR_INTERNAL;
+  } catch (...) {
+    set_error(std::string(function) + ": internal error of unknown kind");
+    return CPX_ERR_INTERNAL;
+  }
+}
+
+// Throws an argument error naming `name` when `pointer` is NULL.
+inline void require_pointer(const void* pointer, const char* name) {
+  if (pointer == nullptr) fail(ErrorKind::argument, std::string("argument '") + name + "' is NULL");
+}
+inline cpx_layout check_layout(cpx_layout layout) {
+  if (layout != CPX_ROW_MAJOR && layout != CPX_COL_MAJOR)
+    fail(ErrorKind::argument, "argument 'layout' must be CPX_ROW_MAJOR or CPX_COL_MAJOR, got " +
+                                  std::to_string(static_cast<int>(layout)));
+  return layout;
+}
+
+// A malloc'ed copy, released by cpx_string_free.
+char* copy_string(const std::string& text);
+
+// Wraps a C progress callback for the core: returns true when the caller wants to stop.
+struct Progress {
+  cpx_progress_fn fn = nullptr;
+  void* user = nullptr;
+  bool operator()(double fraction) const { return fn != nullptr && fn(fraction, user) != 0; }
+};
+
+}  // namespace critplex::capi

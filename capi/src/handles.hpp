@@ -1,0 +1,26 @@
+// The opaque handles of the C interface: thin owners of core value types.
+#pragma once
+
+#include <critplex/critplex.h>
+
+#include "connectivity/matrix.hpp"
+#include "series/series.hpp"
+
+struct cpx_series {
+  critplex::series::Series value;
+};
+
+struct cpx_matrix {
+  critplex::connectivity::Matrix value;
+};
+
+namespace critplex::capi {
+
+// Copies a rows x columns array given in `layout` into an Eigen matrix.
+Eigen::MatrixXd import_array(const double* data, std::size_t rows, std::size_t columns, cpx_layout layout);
+// Copies an Eigen matrix into a caller's buffer of `length` doubles, in `layout`.
+void export_array(const Eigen::MatrixXd& m, double* buffer, std::size_t length, cpx_layout layout);
+// Names from a C array of strings (NULL: default names R1..Rn).
+std::vector<std::string> import_names(const char* const* names, std::size_t n);
+
+}  // namespace critplex::capi

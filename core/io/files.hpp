@@ -1,0 +1,55 @@
+// Reading and writing files. Stages never touch files; io and pipeline do.
+#pragma once
+
+#include <Eigen/Dense>
+#include <nlohmann/json.hpp>
+
+#include <string>
+#include <vector>
+
+#include "connectivity/matrix.hpp"
+#include "series/series.hpp"
+
+namespace critplex::io {
+
+// Whole file as bytes; ErrorKind::io naming the path when it cannot be read.
+std::string read_file(const std::string& path);
+// Writes through a temporary file in the same folder, renamed into place, so a reader
+// never sees a half-written file and a failure leaves nothing behind.
+void write_file_atomically(const std::string& path, const std::string& bytes);
+
+// A numeric table from TSV, CSV, whitespace-separated text or NPY.
+struct Table {
+  Eigen::MatrixXd values;                 // rows x columns
+  std::vector<std::string> column_names;  // empty when the file had no header row
+  std::vector<std::string> row_names;     // empty unless the first column held names
+  std::size_t first_data_line = 1;        // 1-based line of the first data row (text files)
+};
+
+struct TableOptions {
+  std::string format = "auto";   // auto (from extension), tsv, csv, text, npy
+  std::string header = "auto";   // auto, yes, no
+  bool allow_row_names = false;  // a first column of names (matrices written by connect)
+  std::vector<std::string> missing_tokens;  // cells read as NaN instead of an error (e.g. "n/a")
+};
+
+Table read_table(const std::string& path, const TableOptions& options);
+std::string detect_format(const std::string& path);  // by extension: tsv, csv, npy or text
+
+// Time series: frames down the rows, regions across the columns. Options JSON keys:
+// "format", "header" (see README). Validated (series::validate) before returning.
+series::Series read_series(const std::string& path, const nlohmann::json& options);
+// Square symmetric matrix with optional names. Options JSON keys: "format", "header".
+connectivity::Matrix read_matrix(const std::string& path, const nlohmann::json& options);
+
+// Matrix as TSV (header row "name" + names, then one row per region), JSON
+// ({"names", "values", "info"}) or NPY (float64, C order).
+std::string format_matrix(const connectivity::Matrix& m, const std::string& format);
+void write_matrix(const connectivity::Matrix& m, const std::string& path, const std::string& format);
+
+// NPY encoding of a row-major float64 2-D array (NumPy format version 1.0).
+std::string encode_npy(const Eigen::MatrixXd& values);
+// Shortest text that reads back to the same double.
+std::string format_double(double x);
+
+}  // namespace critplex::io

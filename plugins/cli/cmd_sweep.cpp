@@ -1,0 +1,75 @@
+// critplex sweep MATRIX: the density filtration and its curves.
+#include <nlohmann/json.hpp>
+
+#include <memory>
+
+#include "cli.hpp"
+
+namespace critplex_cli {
+namespace {
+
+int run_sweep(const Args& args) {
+  const std::string input = args.positional[0];
+  const auto out = args.value("out");
+  if (!out) throw Failure("--out FILE is required", 2);
+  const std::string format = output_format(args, *out, {"tsv", "json"});
+
+  nlohmann::json options = nlohmann::json::object();
+  if (auto opts = args.value("options")) {
+    try {
+      options = nlohmann::json::parse(*opts);
+    } catch (const std::exception& e) {
+      throw Failure(std::string("--options: not valid JSON: ") + e.what(), 2);
+    }
+    if (!options.is_object()) throw Failure("--options must be a JSON object", 2);
+  }
+  if (args.has("max-density")) options["max_density"] = args.number("max-density", 1.0);
+  if (auto w = args.value("weights")) options["weights"] = *w;
+  if (auto g = args.value("grid")) {
+    if (*g == "every") options["grid"] = "every";
+    else options["grid"] = args.number("grid", 0.01);
+  }
+
+  nlohmann::json read_options = nlohmann::json::object();
+  if (auto f = args.value("input-format")) read_options["format"] = *f;
+
+  cpx_matrix* raw_matrix = nullptr;
+  check(cpx_matrix_read(input.c_str(), read_options.dump().c_str(), &raw_matrix));
+  std::unique_ptr<cpx_matrix, decltype(&cpx_matrix_free)> matrix(raw_matrix, cpx_matrix_free);
+
+  void* bar = progress_state("sweep");
+  cpx_sweep* raw_sweep = nullptr;
+  cpx_status status = cpx_sweep_run(matrix.get(), options.dump().c_str(), progress_bar_if_terminal(), bar, &raw_sweep);
+  progress_done(bar);
+  check(status);
+  std::unique_ptr<cpx_sweep, decltype(&cpx_sweep_free)> sweep(raw_sweep, cpx_sweep_free);
+
+  char* text = nullptr;
+  check(format == "json" ? cpx_sweep_json(sweep.get(), &text) : cpx_sweep_curves_tsv(sweep.get(), &text));
+  std::string body(text);
+  cpx_string_free(text);
+  if (format == "json") body += "\n";
+  write_file_atomically(*out, body);
+  return 0;
+}
+
+const Registration registration{Command{
+    "sweep",
+    "critplex sweep MATRIX --out FILE [options]",
+    "Run the density filtration of a connectivity matrix and write its curves.",
+    "MATRIX is what 'critplex connect' writes, or any square symmetric matrix in TSV,\n"
+    "CSV, whitespace text or NPY, with or without a header row (and first column) of\n"
+    "names. Edges enter from the strongest down; curves are reported on the grid.",
+    {{"out", "FILE", "output file (required); .tsv (curves) or .json (everything)"},
+     {"format", "FMT", "tsv or json (default: from the --out extension)"},
+     {"max-density", "RHO", "stop the filtration at this edge density (default 1)"},
+     {"weights", "MODE", "positive (default), absolute or negative"},
+     {"grid", "STEP", "density step of the reporting grid (default 0.01), or 'every'"},
+     {"input-format", "FMT", "tsv, csv, text or npy (default: from the MATRIX extension)"},
+     {"options", "JSON", "sweep options as a JSON object (README: sweep options)"}},
+    1,
+    1,
+    run_sweep}};
+
+}  // namespace
+}  // namespace critplex_cli
