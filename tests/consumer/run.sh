@@ -21,3 +21,7 @@ cc -std=c99 -Wall -Wextra -o "$build_dir/consumer-pkgconfig/consumer" "$here/con
    $(pkg-config --cflags --libs critplex) -Wl,-rpath,"$(pkg-config --variable=libdir critplex)"
 "$build_dir/consumer-pkgconfig/consumer" | tee /dev/stderr | grep -q "consumer ok"
 echo "package consumers: find_package and pkg-config builds passed"
+
+# Python ctypes through the installed library (the route MATLAB, R and Julia take).
+installed_lib="$(find "$prefix" -name 'libcritplex.so.[0-9]' | head -1)"
+CRITPLEX_LIBRARY="$installed_lib" PYTHONPATH="$here/../../plugins/python" /usr/bin/python3 "$here/ctypes_check.py"

@@ -1,0 +1,23 @@
+#!/usr/bin/env bash
+# The whole test suite from a fresh machine: installs what is missing (Debian packages),
+# builds, runs every test, then rebuilds the unit and C-interface tests under
+# AddressSanitizer + UndefinedBehaviorSanitizer and runs them again.
+#   bash tests/run.sh
+set -euo pipefail
+cd "$(dirname "$0")/.."
+jobs="$(nproc 2>/dev/null || echo 2)"
+
+bash cmake/install-deps.sh --reference
+
+echo "== build (Release) =="
+cmake -S . -B build -DCMAKE_BUILD_TYPE=Release
+cmake --build build -j"$jobs"
+echo "== tests =="
+ctest --test-dir build --output-on-failure -j"$jobs"
+
+echo "== unit and C-interface tests under AddressSanitizer + UndefinedBehaviorSanitizer =="
+cmake -S . -B build-sanitize -DCMAKE_BUILD_TYPE=RelWithDebInfo -DCRITPLEX_SANITIZE=ON \
+      -DCRITPLEX_BUILD_BENCH=OFF -DCRITPLEX_BUILD_CLI=OFF
+cmake --build build-sanitize -j"$jobs"
+ASAN_OPTIONS=detect_leaks=1:abort_on_error=1 UBSAN_OPTIONS=print_stacktrace=1:halt_on_error=1 \
+  ctest --test-dir build-sanitize --output-on-failure -j"$jobs" -L "unit|capi"
