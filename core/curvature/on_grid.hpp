@@ -1,0 +1,62 @@
+// The curvature engine of a sweep: node curvature (from the clique engine's exact node
+// counts) and Forman-Ricci edge curvature at every grid point, their distributions,
+// the Gauss-Bonnet check, curve columns and the "curvature" JSON section.
+#pragma once
+
+#include <string>
+#include <vector>
+
+#include "base/options.hpp"
+#include "cliques/counts.hpp"
+#include "curvature/curvature.hpp"
+#include "filtration/filtration.hpp"
+
+namespace critplex::curvature {
+
+struct Options {
+  bool node_curves = true;   // per node kappa_i(rho) in the JSON section
+  bool forman = true;        // Forman-Ricci edge curvature
+  std::vector<double> quantile_levels{0.05, 0.25, 0.5, 0.75, 0.95};
+  // Histogram grid: "auto" = Freedman-Diaconis on the values pooled over the whole grid
+  // (one grid for every density, so histograms compare), capped at max_bins; or `bins`
+  // equal bins over `range`.
+  bool auto_bins = true;
+  std::size_t bins = 20;
+  std::size_t max_bins = 60;
+  std::vector<double> node_range;    // [lo, hi] for kappa (fixed bins only)
+  std::vector<double> forman_range;  // [lo, hi] for Forman-Ricci (fixed bins only)
+};
+// The "curvature" section of the sweep options (README, "Curvature and transitions").
+Options parse_options(const Json& section);
+
+struct PointCurvature {
+  bool computed = false;      // false beyond the clique engine's complete points
+  std::vector<double> kappa;  // per node
+  GaussBonnet gauss_bonnet;
+  Distribution node;
+  bool forman_computed = false;
+  Distribution forman;
+  std::vector<double> forman_node_mean;
+};
+
+struct OnGrid {
+  Options options;
+  std::vector<double> node_bin_edges, forman_bin_edges;
+  std::vector<PointCurvature> points;
+  bool all_exact = true;            // every Gauss-Bonnet check was exact
+  double max_relative_error = 0.0;  // largest |sum kappa - chi| / max(|chi|, 1) of the doubles
+};
+
+OnGrid on_grid(const filtration::Filtration& f, const std::vector<filtration::GridPoint>& grid,
+               const cliques::GridCounts& counts, const Options& options);
+
+// Curve columns: kappa_mean, kappa_sd, kappa_skewness, kappa_kurtosis, kappa_min,
+// kappa_q<level>..., kappa_max, gauss_bonnet_error, then forman_mean, forman_sd,
+// forman_skewness, forman_kurtosis, forman_min, forman_max.
+void add_columns(const OnGrid& c, std::vector<std::string>& columns, std::vector<std::vector<std::string>>& rows);
+Json to_json(const OnGrid& c, const std::vector<std::string>& names);
+
+// A JSON number, or null for NaN and infinities.
+Json number_or_null(double x);
+
+}  // namespace critplex::curvature

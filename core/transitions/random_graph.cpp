@@ -1,0 +1,209 @@
+#include "transitions/random_graph.hpp"
+
+#include <quadmath.h>
+
+#include <algorithm>
+#include <cmath>
+
+#include "base/error.hpp"
+
+namespace critplex::transitions {
+
+namespace {
+
+__extension__ typedef __float128 quad;
+const quad one = 1;
+const quad half = static_cast<quad>(0.5);
+
+// A number hi + lo with |lo| <= ulp(hi)/2: "paired binary128".
+struct Pair {
+  quad hi = 0;
+  quad lo = 0;
+};
+
+inline Pair two_sum(quad a, quad b) {
+  const quad s = a + b;
+  const quad bb = s - a;
+  return {s, (a - (s - bb)) + (b - bb)};
+}
+inline Pair quick_two_sum(quad a, quad b) {
+  const quad s = a + b;
+  return {s, b - (s - a)};
+}
+inline Pair add(Pair a, Pair b) {
+  Pair s = two_sum(a.hi, b.hi);
+  Pair t = two_sum(a.lo, b.lo);
+  s.lo += t.hi;
+  s = quick_two_sum(s.hi, s.lo);
+  s.lo += t.lo;
+  return quick_two_sum(s.hi, s.lo);
+}
+inline Pair negate(Pair a) { return {-a.hi, -a.lo}; }
+inline Pair mul(Pair a, Pair b) {
+  const quad p = a.hi * b.hi;
+  const quad e = fmaq(a.hi, b.hi, -p);
+  return quick_two_sum(p, e + (a.hi * b.lo + a.lo * b.hi));
+}
+inline Pair mul(Pair a, quad b) {
+  const quad p = a.hi * b;
+  const quad e = fmaq(a.hi, b, -p);
+  return quick_two_sum(p, e + a.lo * b);
+}
+inline Pair div(Pair a, quad d) {
+  const quad q1 = a.hi / d;
+  // remainder a - q1 d, exactly: q1 d = p + e
+  const quad p = q1 * d;
+  const quad e = fmaq(q1, d, -p);
+  const quad r = ((a.hi - p) - e) + a.lo;
+  return quick_two_sum(q1, r / d);
+}
+inline quad magnitude(Pair a) { return fabsq(a.hi); }
+
+constexpr double unit_roundoff_log2 = -220.0;  // conservative for the pair arithmetic
+
+// sum_{k>=start} sign_k * t_k, with t_start = first and t_{k+1} = t_k * (n - k) / (k + shift) * p^(k + pshift).
+// Both closed forms fit this recurrence; see the two callers.
+struct Series {
+  Pair sum;
+  quad absolute = 0;   // sum of |t_k|
+  std::size_t terms = 0;
+};
+
+Series alternating_series(std::size_t n, double p, bool kappa) {
+  Series s;
+  const quad qp = p;
+  const quad tiny = ldexpq(one, -240);
+  // chi:   t_1 = N,  t_{k+1} = t_k (N-k)/(k+1) p^k,       sign (-1)^(k-1), k = 1..N
+  // kappa: t_0 = 1,  t_{k+1} = t_k (M-k)/(k+2) p^(k+1),   sign (-1)^k,     k = 0..M, M = N-1
+  const std::size_t top = kappa ? n - 1 : n;
+  std::size_t k = kappa ? 0 : 1;
+  Pair term{kappa ? one : static_cast<quad>(n), 0};
+  Pair power{qp, 0};  // the power of p in the next ratio: p^(k+1) for kappa, p^k for chi
+  bool positive = true;
+  quad largest = 0;
+  for (; k <= top; ++k) {
+    s.sum = add(s.sum, positive ? term : negate(term));
+    s.absolute += magnitude(term);
+    largest = std::max(largest, magnitude(term));
+    ++s.terms;
+    if (k == top) break;
+    // ratio of the next term to this one
+    const quad numerator = static_cast<quad>((kappa ? n - 1 : n) - k);
+    const quad denominator = static_cast<quad>(kappa ? k + 2 : k + 1);
+    term = div(mul(mul(term, numerator), power), denominator);
+    power = mul(power, qp);
+    positive = !positive;
+    // Past the largest term the ratios only shrink (they decrease in k), so once a term is
+    // negligible and the ratio below 1/2 the tail is below twice that term.
+    const quad ratio = numerator / denominator * power.hi / qp;
+    if (magnitude(term) <= tiny * largest && ratio < half) {
+      s.absolute += 2 * magnitude(term);
+      break;
+    }
+    if (term.hi == 0) break;
+  }
+  return s;
+}
+
+RandomGraphValue finish(const Series& s, quad scale) {
+  RandomGraphValue v;
+  const quad value = (s.sum.hi + s.sum.lo) / scale;
+  v.value = static_cast<double>(value);
+  char buffer[64];
+  quadmath_snprintf(buffer, sizeof buffer, "%.34Qe", value);
+  v.decimal = buffer;
+  const quad bound = s.absolute * ldexpq(one, static_cast<int>(unit_roundoff_log2)) *
+                     static_cast<quad>(4 * s.terms + 8) / scale;
+  v.relative_error_bound = value == 0 ? (bound == 0 ? 0.0 : HUGE_VAL) : static_cast<double>(bound / fabsq(value));
+  v.reliable = v.relative_error_bound < 1e-15;
+  return v;
+}
+
+void check_args(std::size_t nodes, double p) {
+  if (nodes < 1) fail(ErrorKind::argument, "random graph: the number of nodes must be at least 1");
+  if (!(p >= 0.0 && p <= 1.0)) fail(ErrorKind::argument, "random graph: p must be in [0, 1], got " + std::to_string(p));
+}
+
+}  // namespace
+
+const char* random_graph_arithmetic() { return "paired binary128 (__float128 hi + lo, about 67 significant digits)"; }
+
+RandomGraphValue expected_chi(std::size_t nodes, double p) {
+  check_args(nodes, p);
+  // The full simplex is contractible: E[chi] = 1 at p = 1 (the sum would need ~N digits).
+  if (p == 1.0) return RandomGraphValue{1.0, "1", 0.0, true};
+  return finish(alternating_series(nodes, p, false), 1);
+}
+
+RandomGraphValue expected_kappa(std::size_t nodes, double p) {
+  check_args(nodes, p);
+  if (p == 1.0) {
+    RandomGraphValue v;
+    v.value = 1.0 / static_cast<double>(nodes);
+    char buffer[64];
+    quadmath_snprintf(buffer, sizeof buffer, "%.34Qe", one / static_cast<quad>(nodes));
+    v.decimal = buffer;
+    return v;
+  }
+  if (nodes == 1) return RandomGraphValue{1.0, "1", 0.0, true};
+  return finish(alternating_series(nodes, p, true), 1);
+}
+
+RandomGraphZeros random_graph_zeros(std::size_t nodes, double max_p, std::size_t scan_points) {
+  if (nodes < 2) fail(ErrorKind::argument, "random graph: the number of nodes must be at least 2");
+  if (!(max_p > 0.0 && max_p <= 1.0))
+    fail(ErrorKind::argument, "random graph: the largest p must be in (0, 1], got " + std::to_string(max_p));
+  if (scan_points < 10) fail(ErrorKind::argument, "random graph: at least 10 scan points are needed");
+  RandomGraphZeros out;
+  out.scan_points = scan_points;
+  // Scan grid: half log-spaced from 0.01/N to 0.1, half linear from 0.1 to max_p.
+  std::vector<double> grid;
+  const double low = std::min(0.01 / static_cast<double>(nodes), max_p / 2);
+  const double middle = std::min(0.1, max_p);
+  const std::size_t half = scan_points / 2;
+  for (std::size_t i = 0; i < half; ++i)
+    grid.push_back(low * std::pow(middle / low, static_cast<double>(i) / static_cast<double>(half)));
+  const std::size_t rest = scan_points - half;
+  for (std::size_t i = 0; i <= rest; ++i)
+    grid.push_back(middle + (max_p - middle) * static_cast<double>(i) / static_cast<double>(rest));
+  grid.erase(std::unique(grid.begin(), grid.end()), grid.end());
+
+  auto find = [&](auto&& evaluate, std::vector<double>& zeros, std::vector<int>& directions) {
+    double reliable_up_to = grid.front();
+    double previous_p = grid.front();
+    RandomGraphValue previous = evaluate(previous_p);
+    if (!previous.reliable) return 0.0;
+    for (std::size_t i = 1; i < grid.size(); ++i) {
+      const double p = grid[i];
+      RandomGraphValue v = evaluate(p);
+      if (!v.reliable) break;
+      reliable_up_to = p;
+      if (v.value != 0.0 && previous.value != 0.0 && (v.value > 0) != (previous.value > 0)) {
+        double a = previous_p, b = p;
+        const bool left_positive = previous.value > 0;
+        for (int iteration = 0; iteration < 200 && b - a > 1e-16 * b; ++iteration) {
+          const double m = 0.5 * (a + b);
+          if (m <= a || m >= b) break;
+          RandomGraphValue vm = evaluate(m);
+          if (vm.value == 0.0) { a = b = m; break; }
+          if ((vm.value > 0) == left_positive) a = m;
+          else b = m;
+        }
+        zeros.push_back(0.5 * (a + b));
+        directions.push_back(left_positive ? -1 : +1);
+      }
+      if (v.value != 0.0) {
+        previous = v;
+        previous_p = p;
+      }
+    }
+    return reliable_up_to;
+  };
+  const double chi_ok = find([&](double p) { return expected_chi(nodes, p); }, out.chi_zeros, out.chi_directions);
+  const double kappa_ok =
+      find([&](double p) { return expected_kappa(nodes, p); }, out.kappa_zeros, out.kappa_directions);
+  out.reliable_up_to = std::min(chi_ok, kappa_ok);
+  return out;
+}
+
+}  // namespace critplex::transitions

@@ -1,0 +1,301 @@
+// Unit tests of the curvature stage: Gauss-Bonnet node curvature, Forman-Ricci edge
+// curvature, distributions, and the engine on a sweep grid.
+#include <catch2/catch.hpp>
+
+#include <algorithm>
+#include <cmath>
+#include <random>
+#include <set>
+
+#include "base/error.hpp"
+#include "cliques/counts.hpp"
+#include "curvature/curvature.hpp"
+#include "curvature/on_grid.hpp"
+#include "filtration/filtration.hpp"
+
+using namespace critplex;
+using namespace critplex::curvature;
+
+namespace {
+
+using EdgeList = std::vector<std::pair<std::uint32_t, std::uint32_t>>;
+
+// Brute force: list every clique and count, per node, the cliques of each size that
+// contain it (node_counts[i][k]: cliques of k + 1 nodes). Independent of the clique engine.
+struct Brute {
+  std::vector<std::vector<int128>> node_counts;
+  int128 chi = 0;
+};
+Brute brute_force(std::size_t n, const EdgeList& edges) {
+  std::vector<std::vector<bool>> adj(n, std::vector<bool>(n, false));
+  for (auto [u, v] : edges) adj[u][v] = adj[v][u] = true;
+  Brute b;
+  b.node_counts.assign(n, {});
+  std::vector<std::uint32_t> clique;
+  auto record = [&] {
+    const std::size_t k = clique.size() - 1;
+    b.chi += (k % 2 == 0) ? 1 : -1;
+    for (auto i : clique) {
+      if (b.node_counts[i].size() <= k) b.node_counts[i].resize(k + 1, 0);
+      b.node_counts[i][k] += 1;
+    }
+  };
+  auto extend = [&](auto&& self, std::uint32_t from) -> void {
+    record();
+    for (std::uint32_t w = from; w < n; ++w) {
+      bool ok = true;
+      for (auto c : clique) ok = ok && adj[c][w];
+      if (!ok) continue;
+      clique.push_back(w);
+      self(self, w + 1);
+      clique.pop_back();
+    }
+  };
+  for (std::uint32_t v = 0; v < n; ++v) {
+    clique = {v};
+    extend(extend, v + 1);
+  }
+  return b;
+}
+
+// Octahedron graph: K_{2,2,2}, every pair except the antipodes (0,1), (2,3), (4,5).
+EdgeList octahedron() {
+  EdgeList e;
+  for (std::uint32_t u = 0; u < 6; ++u)
+    for (std::uint32_t v = u + 1; v < 6; ++v)
+      if (!(u % 2 == 0 && v == u + 1)) e.emplace_back(u, v);
+  return e;
+}
+
+// Icosahedron graph: apex 0, upper ring 1..5, lower ring 6..10, apex 11.
+EdgeList icosahedron() {
+  EdgeList e;
+  for (std::uint32_t i = 0; i < 5; ++i) {
+    const std::uint32_t up = 1 + i, up_next = 1 + (i + 1) % 5, low = 6 + i, low_next = 6 + (i + 1) % 5;
+    e.emplace_back(0, up);
+    e.emplace_back(std::min(up, up_next), std::max(up, up_next));
+    e.emplace_back(up, low);
+    e.emplace_back(up, low_next);
+    e.emplace_back(std::min(low, low_next), std::max(low, low_next));
+    e.emplace_back(low, 11);
+  }
+  return e;
+}
+
+EdgeList random_graph(std::size_t n, double p, std::mt19937_64& rng) {
+  std::bernoulli_distribution coin(p);
+  EdgeList e;
+  for (std::uint32_t u = 0; u < n; ++u)
+    for (std::uint32_t v = u + 1; v < n; ++v)
+      if (coin(rng)) e.emplace_back(u, v);
+  return e;
+}
+
+// A brain-like matrix: correlations of a few shared smooth signals plus noise (invented
+// data, property test only), so the graph has modules and many cliques.
+Eigen::MatrixXd brain_like(std::size_t n, std::size_t frames, std::mt19937_64& rng) {
+  std::normal_distribution<double> gauss;
+  const std::size_t modules = 3;
+  Eigen::MatrixXd shared(frames, modules), x(frames, n);
+  for (std::size_t m = 0; m < modules; ++m) {
+    double s = 0.0;
+    for (std::size_t t = 0; t < frames; ++t) shared(static_cast<Eigen::Index>(t), static_cast<Eigen::Index>(m)) = s = 0.9 * s + gauss(rng);
+  }
+  for (std::size_t i = 0; i < n; ++i)
+    for (std::size_t t = 0; t < frames; ++t)
+      x(static_cast<Eigen::Index>(t), static_cast<Eigen::Index>(i)) =
+          shared(static_cast<Eigen::Index>(t), static_cast<Eigen::Index>(i % modules)) + 1.2 * gauss(rng);
+  Eigen::MatrixXd centred = x.rowwise() - x.colwise().mean();
+  Eigen::MatrixXd cov = centred.transpose() * centred;
+  Eigen::VectorXd sd = cov.diagonal().cwiseSqrt();
+  return cov.cwiseQuotient(sd * sd.transpose());
+}
+
+}  // namespace
+
+TEST_CASE("octahedron: every node has curvature 1/3, sum 2", "[curvature]") {
+  // reference: worked values in METHODS.md (1 - 4/2 + 4/3 = 1/3; V - E + F = 2), Knill 2011
+  Brute b = brute_force(6, octahedron());
+  REQUIRE(b.chi == 2);
+  NodeCurvature c = node_curvature(b.node_counts);
+  REQUIRE(c.exact);
+  for (std::size_t i = 0; i < 6; ++i) {
+    CHECK(c.kappa[i] == Approx(1.0 / 3.0).epsilon(1e-15));
+    CHECK(c.numerators[i] * 3 == c.denominator);  // exactly 1/3
+  }
+  GaussBonnet g = check_gauss_bonnet(c, b.chi);
+  CHECK(g.exact);
+  CHECK(g.method == "exact rational");
+  CHECK(g.sum_kappa == Approx(2.0).epsilon(1e-15));
+}
+
+TEST_CASE("icosahedron: every node has curvature 1/6, sum 2", "[curvature]") {
+  // reference: worked values in METHODS.md (1 - 5/2 + 5/3 = 1/6), Knill 2011
+  EdgeList e = icosahedron();
+  REQUIRE(std::set<std::pair<std::uint32_t, std::uint32_t>>(e.begin(), e.end()).size() == 30);
+  Brute b = brute_force(12, e);
+  REQUIRE(b.chi == 2);
+  NodeCurvature c = node_curvature(b.node_counts);
+  for (std::size_t i = 0; i < 12; ++i) {
+    CHECK(c.kappa[i] == Approx(1.0 / 6.0).epsilon(1e-15));
+    CHECK(c.numerators[i] * 6 == c.denominator);
+  }
+  CHECK(check_gauss_bonnet(c, b.chi).exact);
+}
+
+TEST_CASE("Gauss-Bonnet holds exactly on random and brain-like graphs", "[curvature]") {
+  // reference: Gauss-Bonnet sum_i kappa_i = chi (Knill 2011), chi from brute-force listing
+  std::mt19937_64 rng(20261202);
+  for (int trial = 0; trial < 40; ++trial) {
+    const std::size_t n = 5 + static_cast<std::size_t>(trial % 12);
+    const double p = 0.1 + 0.02 * trial;
+    Brute b = brute_force(n, random_graph(n, std::min(p, 0.9), rng));
+    NodeCurvature c = node_curvature(b.node_counts);
+    GaussBonnet g = check_gauss_bonnet(c, b.chi);
+    CHECK(g.exact);
+    CHECK(g.relative_error < 1e-12);
+  }
+  for (int trial = 0; trial < 5; ++trial) {
+    const std::size_t n = 18;
+    filtration::Filtration f = filtration::build(brain_like(n, 120, rng), filtration::WeightMode::positive);
+    for (double rho : {0.1, 0.3, 0.5, 0.7}) {
+      const std::size_t m = std::min(f.edges.size(), static_cast<std::size_t>(rho * static_cast<double>(f.pairs())));
+      EdgeList e;
+      for (std::size_t i = 0; i < m; ++i) e.emplace_back(f.edges[i].u, f.edges[i].v);
+      Brute b = brute_force(n, e);
+      GaussBonnet g = check_gauss_bonnet(node_curvature(b.node_counts), b.chi);
+      CHECK(g.exact);
+      CHECK(g.relative_error < 1e-12);
+    }
+  }
+}
+
+TEST_CASE("Gauss-Bonnet fails loudly on inconsistent counts", "[curvature]") {
+  // A triangle's node counts (1, 2, 1) each give kappa = 1 - 1 + 1/3 = 1/3, sum 1 = chi.
+  std::vector<std::vector<int128>> triangle(3, std::vector<int128>{1, 2, 1});
+  NodeCurvature c = node_curvature(triangle);
+  CHECK(check_gauss_bonnet(c, 1).exact);
+  CHECK_THROWS_AS(check_gauss_bonnet(c, 2), Error);
+  std::vector<std::vector<int128>> bad{{2, 1}};
+  CHECK_THROWS_AS(node_curvature(bad), Error);
+}
+
+TEST_CASE("huge counts fall back to binary128 and still satisfy Gauss-Bonnet", "[curvature]") {
+  // Complete graph K_n: each node lies in C(n-1,k) k-simplices; chi = 1 (a simplex).
+  // reference: chi of a simplex is 1 (common practice); n = 120 overflows lcm(1..120) in 128 bits.
+  const std::size_t n = 120;
+  std::vector<int128> row(n, 0);
+  row[0] = 1;
+  for (std::size_t k = 1; k < n; ++k) row[k] = row[k - 1] * static_cast<int128>(n - k) / static_cast<int128>(k);
+  // C(119, 59) ~ 1.6e35 fits 128 bits; the common denominator does not.
+  std::vector<std::vector<int128>> counts(n, row);
+  NodeCurvature c = node_curvature(counts);
+  CHECK_FALSE(c.exact);
+  // kappa of a node of a simplex on n nodes is 1/n: sum_k (-1)^k C(n-1,k)/(k+1) = 1/n.
+  // Cancellation from 1e35 terms leaves no digit in binary128 either; check that the
+  // check itself notices rather than accepting garbage.
+  bool threw = false;
+  try {
+    check_gauss_bonnet(c, 1);
+  } catch (const Error&) {
+    threw = true;
+  }
+  // Either the values are right to 1e-12, or the mismatch is reported.
+  if (!threw) CHECK(std::fabs(c.kappa[0] - 1.0 / 120.0) < 1e-12);
+}
+
+TEST_CASE("Forman-Ricci curvature on small graphs", "[curvature]") {
+  // reference: F(uv) = 4 - deg(u) - deg(v) + 3 t(uv) (Sreejith et al. 2016; Samal et al. 2018), by hand
+  // Triangle 0-1-2 plus pendant 2-3.
+  EdgeList e{{0, 1}, {0, 2}, {1, 2}, {2, 3}};
+  Forman f = forman_ricci(5, e, e.size());
+  CHECK(f.edge_values[0] == 4 - 2 - 2 + 3);  // 01: one triangle
+  CHECK(f.edge_values[1] == 4 - 2 - 3 + 3);  // 02
+  CHECK(f.edge_values[2] == 4 - 2 - 3 + 3);  // 12
+  CHECK(f.edge_values[3] == 4 - 3 - 1);      // 23: no triangle
+  CHECK(f.node_mean[0] == Approx((3.0 + 2.0) / 2));
+  CHECK(f.node_mean[2] == Approx((2.0 + 2.0 - 0.0) / 3));
+  CHECK(std::isnan(f.node_mean[4]));  // isolated
+  // Only a prefix of the edges.
+  Forman g = forman_ricci(5, e, 1);
+  REQUIRE(g.edge_values.size() == 1);
+  CHECK(g.edge_values[0] == 2);  // 4 - 1 - 1
+}
+
+TEST_CASE("distributions: moments, quantiles, histogram", "[curvature]") {
+  // reference: values worked by hand with the definitions of numpy.percentile (linear),
+  // scipy.stats.skew and scipy.stats.kurtosis (biased, Fisher) for {1, 2, 3, 4, 10}
+  std::vector<double> v{4, 1, 10, 3, 2};
+  Distribution d = describe(v, {0.0, 0.5, 0.9, 1.0}, fixed_bins(0.0, 10.0, 5));
+  CHECK(d.count == 5);
+  CHECK(d.mean == Approx(4.0));
+  // deviations -3 -2 -1 0 6: m2 = 50/5 = 10, m3 = (-27-8-1+216)/5 = 36, m4 = (81+16+1+1296)/5 = 278.8
+  CHECK(d.sd == Approx(std::sqrt(10.0)));
+  CHECK(d.skewness == Approx(36.0 / std::pow(10.0, 1.5)));
+  CHECK(d.kurtosis == Approx(278.8 / 100.0 - 3.0));
+  CHECK(d.quantiles[0] == 1.0);
+  CHECK(d.quantiles[1] == 3.0);
+  CHECK(d.quantiles[2] == Approx(4.0 + 0.6 * 6.0));  // h = 3.6 between 4 and 10
+  CHECK(d.quantiles[3] == 10.0);
+  // bins [0,2) [2,4) [4,6) [6,8) [8,10]
+  CHECK(d.histogram == std::vector<std::size_t>{1, 2, 1, 0, 1});
+  Distribution c = describe({2, 2, 2}, {0.5}, {});
+  CHECK(c.sd == 0.0);
+  CHECK(std::isnan(c.skewness));
+  Distribution e = describe({}, {0.5}, {});
+  CHECK(std::isnan(e.mean));
+  auto fd = freedman_diaconis_bins({0, 1, 2, 3, 4, 5, 6, 7}, 100);
+  // IQR (type 7) = 5.25 - 1.75 = 3.5, width 2 * 3.5 / 2 = 3.5, 7 / 3.5 = 2 bins
+  CHECK(fd.size() == 3);
+  CHECK(fd.front() == 0.0);
+  CHECK(fd.back() == 7.0);
+}
+
+TEST_CASE("the engine on a sweep grid agrees with brute force", "[curvature]") {
+  // reference: brute-force clique listing above (independent of the clique engine)
+  std::mt19937_64 rng(7);
+  const std::size_t n = 14;
+  filtration::Filtration f = filtration::build(brain_like(n, 100, rng), filtration::WeightMode::absolute);
+  filtration::GridSpec spec;
+  spec.step = 0.1;
+  auto grid = filtration::make_grid(f, spec);
+  cliques::Options co;
+  co.node_counts = true;
+  co.threads = 1;
+  cliques::GridCounts counts = cliques::count_on_grid(f, grid, co, {});
+  REQUIRE(counts.complete_points == grid.size());
+  OnGrid c = on_grid(f, grid, counts, Options{});
+  CHECK(c.all_exact);
+  for (std::size_t g = 0; g < grid.size(); ++g) {
+    EdgeList e;
+    for (std::size_t i = 0; i < grid[g].edges; ++i) e.emplace_back(f.edges[i].u, f.edges[i].v);
+    Brute b = brute_force(n, e);
+    NodeCurvature expect = node_curvature(b.node_counts);
+    REQUIRE(c.points[g].computed);
+    CHECK(c.points[g].gauss_bonnet.chi == b.chi);
+    for (std::size_t i = 0; i < n; ++i) CHECK(c.points[g].kappa[i] == expect.kappa[i]);
+    std::size_t histogram_total = 0;
+    for (auto h : c.points[g].node.histogram) histogram_total += h;
+    CHECK(histogram_total + c.points[g].node.below + c.points[g].node.above == n);
+    CHECK(c.points[g].forman.count == grid[g].edges);
+  }
+  std::vector<std::string> columns;
+  std::vector<std::vector<std::string>> rows(grid.size());
+  add_columns(c, columns, rows);
+  for (const auto& r : rows) CHECK(r.size() == columns.size());
+  Json j = to_json(c, std::vector<std::string>(n, "x"));
+  CHECK(j["points"].size() == grid.size());
+  CHECK(j["node_kappa"]["values"].size() == n);
+}
+
+TEST_CASE("curvature options are checked", "[curvature]") {
+  CHECK_THROWS_AS(parse_options(Json{{"bins", 0}}), Error);
+  CHECK_THROWS_AS(parse_options(Json{{"quantiles", {1.5}}}), Error);
+  CHECK_THROWS_AS(parse_options(Json{{"range", {1, 0}}, {"bins", 5}}), Error);
+  CHECK_THROWS_AS(parse_options(Json{{"range", {0, 1}}}), Error);  // range needs fixed bins
+  CHECK_THROWS_AS(parse_options(Json{{"colour", "red"}}), Error);
+  Options o = parse_options(Json{{"bins", 7}, {"range", {-1, 1}}, {"forman", false}});
+  CHECK_FALSE(o.auto_bins);
+  CHECK(o.bins == 7);
+  CHECK_FALSE(o.forman);
+}
