@@ -130,9 +130,38 @@ CPX_API cpx_status cpx_matrix_write(const cpx_matrix* matrix, const char* path, 
 /* Connectivity: series -> matrix                                                        */
 /* ------------------------------------------------------------------------------------ */
 
-/* Estimates connectivity. Options (README, "connect options"): {"method": "pearson", ...,
- * "fisher_z": false}. */
+/* Estimates connectivity: optional cleaning (confound regression, detrending, censoring,
+ * standardising), optional band limiting, then the estimator. Options (README, "connect
+ * options"): {"method": "pearson"|"ledoit_wolf"|"oas"|"shrinkage_correlation"|"partial"|
+ * "plv"|"pli"|"wpli"|"aec"|"aec_orthogonalised", "fisher_z", "sampling_interval",
+ * "partial_basis", "clean": {...}, "filter": {...}, "bands": {...}}. Files named in the
+ * options (confounds table, frame mask) are read by this call. What the estimator reports
+ * (shrinkage intensity, frames used, band) is in cpx_matrix_info. Options that give
+ * several bands are an error here: use cpx_connect_bands. */
 CPX_API cpx_status cpx_connect(const cpx_series* series, const char* options_json, cpx_matrix** out);
+
+/* A set of matrices, one per band, in order of increasing low edge. */
+typedef struct cpx_matrix_set cpx_matrix_set;
+/* Like cpx_connect, but gives one matrix per named band of "bands" (a single matrix,
+ * with band name "", when the options name no bands). */
+CPX_API cpx_status cpx_connect_bands(const cpx_series* series, const char* options_json, cpx_matrix_set** out);
+CPX_API void cpx_matrix_set_free(cpx_matrix_set* set);
+CPX_API cpx_status cpx_matrix_set_count(const cpx_matrix_set* set, size_t* count);
+/* Band name of matrix `index` ("" for an unnamed band); release with cpx_string_free. */
+CPX_API cpx_status cpx_matrix_set_band(const cpx_matrix_set* set, size_t index, char** name);
+/* A new matrix handle (a copy) for entry `index`; free it with cpx_matrix_free. It stays
+ * valid after the set is freed. */
+CPX_API cpx_status cpx_matrix_set_get(const cpx_matrix_set* set, size_t index, cpx_matrix** out);
+
+/* Regional mean time series from a 4-D NIfTI-1 image (.nii or .nii.gz) and a 3-D integer
+ * label image on the same grid: one region per label > 0, in increasing label order.
+ * Options: {"label_names": TSV of label index and name, "sampling_interval": seconds
+ * (default: pixdim[4] of the image in its time unit)}. Errors name the file: mismatched
+ * grids, non-integer labels, labels without voxels, unsupported datatypes. */
+CPX_API cpx_status cpx_series_read_image(const char* image_path, const char* labels_path, const char* options_json,
+                                         cpx_series** out);
+/* Sampling interval of a series in seconds (NaN when unknown, e.g. read from TSV). */
+CPX_API cpx_status cpx_series_sampling_interval(const cpx_series* series, double* seconds);
 
 /* ------------------------------------------------------------------------------------ */
 /* Sweep: matrix -> filtration -> curves (cliques, chi, Betti, curvature, transitions)   */

@@ -1,0 +1,47 @@
+// From a regional time series to one connectivity matrix per band: cleaning -> band
+// limiting -> censoring -> standardising -> estimator -> optional Fisher z.
+// The options are the "connect options" JSON of the README; unknown keys are errors.
+#pragma once
+
+#include <nlohmann/json.hpp>
+
+#include <optional>
+#include <string>
+#include <vector>
+
+#include "connectivity/matrix.hpp"
+#include "series/clean.hpp"
+#include "series/filter.hpp"
+#include "series/series.hpp"
+
+namespace critplex::connectivity {
+
+enum class Estimator {
+  pearson, ledoit_wolf, oas, shrinkage_correlation, partial,
+  plv, pli, wpli, aec, aec_orthogonalised
+};
+
+struct ConnectOptions {
+  Estimator method = Estimator::pearson;
+  std::string method_name = "pearson";
+  bool fisher_z = false;
+  double sampling_interval = std::numeric_limits<double>::quiet_NaN();  // overrides the series'
+  std::string partial_basis = "ledoit_wolf";  // covariance behind "partial"
+  series::CleanOptions clean;
+  series::FilterOptions filter;
+  std::vector<series::Band> bands;  // empty: no band limiting; one unnamed band from "filter"
+};
+
+// Parses and checks the connect options (`where` names them in errors).
+ConnectOptions parse_connect_options(const nlohmann::json& options, const std::string& where);
+
+struct BandMatrix {
+  std::string band;  // "" when there is no named band
+  Matrix matrix;
+};
+
+// Runs the whole chain. `inputs` are the loaded confounds, motion and mask (io).
+std::vector<BandMatrix> connect(const series::Series& series, const ConnectOptions& options,
+                                const series::CleanInputs& inputs);
+
+}  // namespace critplex::connectivity

@@ -1,0 +1,113 @@
+#include "connectivity/phase.hpp"
+
+#include <algorithm>
+#include <cmath>
+
+#include "base/error.hpp"
+#include "connectivity/pearson.hpp"
+
+namespace critplex::connectivity {
+
+namespace {
+
+Eigen::MatrixXd symmetric_from_lower(Eigen::MatrixXd m) {
+  for (Eigen::Index j = 0; j < m.cols(); ++j) {
+    m(j, j) = 1.0;
+    for (Eigen::Index i = j + 1; i < m.rows(); ++i) m(j, i) = m(i, j);
+  }
+  return m;
+}
+
+// Lag indices from the imaginary parts of the cross products, Im(z_i conj z_j) =
+// y_i x_j - x_i y_j with z = x + i y; real and imaginary parts kept in separate
+// contiguous columns so the inner loop vectorises.
+Eigen::MatrixXd lag_indices(const Eigen::MatrixXcd& z, bool weighted) {
+  const Eigen::Index T = z.rows(), N = z.cols();
+  const Eigen::MatrixXd re = z.real(), im = z.imag();
+  Eigen::MatrixXd out(N, N);
+  for (Eigen::Index j = 0; j < N; ++j) {
+    const double* xj = re.col(j).data();
+    const double* yj = im.col(j).data();
+    for (Eigen::Index i = j + 1; i < N; ++i) {
+      const double* xi = re.col(i).data();
+      const double* yi = im.col(i).data();
+      double sum = 0.0, sum_abs = 0.0;
+      if (weighted) {
+        for (Eigen::Index t = 0; t < T; ++t) {
+          const double v = yi[t] * xj[t] - xi[t] * yj[t];
+          sum += v;
+          sum_abs += std::fabs(v);
+        }
+        out(i, j) = sum_abs > 0.0 ? std::fabs(sum) / sum_abs : 0.0;
+      } else {
+        for (Eigen::Index t = 0; t < T; ++t) {
+          const double v = yi[t] * xj[t] - xi[t] * yj[t];
+          sum += static_cast<double>((v > 0.0) - (v < 0.0));
+        }
+        out(i, j) = std::fabs(sum) / static_cast<double>(T);
+      }
+    }
+  }
+  return symmetric_from_lower(out);
+}
+
+Eigen::MatrixXd locking_values(const Eigen::MatrixXcd& z) {
+  const Eigen::Index T = z.rows();
+  Eigen::MatrixXcd u(z.rows(), z.cols());
+  for (Eigen::Index j = 0; j < z.cols(); ++j)
+    for (Eigen::Index t = 0; t < T; ++t) {
+      const double a = std::abs(z(t, j));
+      // A zero amplitude has no phase; it adds nothing to the sum but still counts in T.
+      u(t, j) = a > 0.0 ? z(t, j) / a : std::complex<double>(0.0, 0.0);
+    }
+  // sum_t u_i conj(u_j) for every pair is one complex matrix product.
+  const Eigen::MatrixXcd g = u.transpose() * u.conjugate();
+  Eigen::MatrixXd out(z.cols(), z.cols());
+  for (Eigen::Index j = 0; j < z.cols(); ++j)
+    for (Eigen::Index i = j + 1; i < z.cols(); ++i)
+      out(i, j) = std::min(1.0, std::abs(g(i, j)) / static_cast<double>(T));
+  return symmetric_from_lower(out);
+}
+
+double correlation(const Eigen::VectorXd& a, const Eigen::VectorXd& b) {
+  const Eigen::VectorXd ca = a.array() - a.mean(), cb = b.array() - b.mean();
+  const double den = std::sqrt(ca.squaredNorm() * cb.squaredNorm());
+  if (!(den > 0)) return 0.0;
+  return std::clamp(ca.dot(cb) / den, -1.0, 1.0);
+}
+
+Eigen::MatrixXd orthogonalised_envelopes(const Eigen::MatrixXcd& z) {
+  const Eigen::Index T = z.rows(), N = z.cols();
+  const Eigen::MatrixXd amplitude = z.cwiseAbs();
+  Eigen::MatrixXd out(N, N);
+  Eigen::VectorXd env(T);
+  // Envelope of z_b orthogonalised on z_a, correlated with the envelope of z_a.
+  auto directed = [&](Eigen::Index a, Eigen::Index b) {
+    for (Eigen::Index t = 0; t < T; ++t) {
+      const double amp = amplitude(t, a);
+      env(t) = amp > 0.0 ? std::fabs((z(t, b) * std::conj(z(t, a))).imag() / amp) : 0.0;
+    }
+    return correlation(amplitude.col(a), env);
+  };
+  for (Eigen::Index j = 0; j < N; ++j)
+    for (Eigen::Index i = j + 1; i < N; ++i) out(i, j) = 0.5 * (directed(i, j) + directed(j, i));
+  return symmetric_from_lower(out);
+}
+
+}  // namespace
+
+Eigen::MatrixXd phase_coupling(const Eigen::MatrixXcd& analytic, PhaseMeasure measure) {
+  switch (measure) {
+    case PhaseMeasure::locking_value: return locking_values(analytic);
+    case PhaseMeasure::lag_index: return lag_indices(analytic, false);
+    case PhaseMeasure::weighted_lag_index: return lag_indices(analytic, true);
+    case PhaseMeasure::envelope: {
+      const Eigen::MatrixXd amplitude = analytic.cwiseAbs();
+      return pearson(amplitude);
+    }
+    case PhaseMeasure::envelope_orthogonalised: return orthogonalised_envelopes(analytic);
+  }
+  fail(ErrorKind::internal, "unknown phase measure");
+}
+
+}  // namespace critplex::connectivity
