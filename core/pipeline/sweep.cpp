@@ -1,9 +1,68 @@
 #include "pipeline/sweep.hpp"
 
+#include <optional>
+
 #include "base/error.hpp"
+#include "cliques/counts.hpp"
+#include "curvature/on_grid.hpp"
+#include "homology/persistence.hpp"
 #include "io/files.hpp"
+#include "transitions/from_sweep.hpp"
+#include "transitions/report.hpp"
 
 namespace critplex::pipeline {
+
+namespace {
+// Columns "chi", "cliques_0".."cliques_K" (exact decimal text; "NaN" where a budget
+// stopped the sweep) and the JSON section "cliques".
+void add_clique_columns(SweepResult& result, const cliques::GridCounts& gc, const cliques::Options& o) {
+  std::size_t width = 0;
+  for (const auto& c : gc.counts) width = std::max(width, c.size());
+  result.columns.push_back("chi");
+  for (std::size_t k = 0; k < width; ++k) result.columns.push_back("cliques_" + std::to_string(k));
+  for (std::size_t g = 0; g < result.rows.size(); ++g) {
+    const bool exact = g < gc.complete_points;
+    const bool have = !gc.counts[g].empty();
+    auto& row = result.rows[g];
+    row.push_back(exact ? to_decimal(gc.chi[g]) : "NaN");
+    for (std::size_t k = 0; k < width; ++k) {
+      // Past a max_dimension stop, counts up to the cap are still exact.
+      const bool known = have && (exact || o.max_dimension < 0 || static_cast<int>(k) <= o.max_dimension);
+      row.push_back(!known ? "NaN" : k < gc.counts[g].size() ? to_decimal(gc.counts[g][k]) : "0");
+    }
+  }
+  Json section;
+  section["options"] = cliques::options_to_json(o);
+  section["stopped_by"] = gc.stopped_by.empty() ? Json(nullptr) : Json(gc.stopped_by);
+  section["complete_points"] = gc.complete_points;
+  section["complete_to_density"] = gc.complete_points == 0 ? Json(nullptr) : Json(result.grid[gc.complete_points - 1].density);
+  section["complete_edges"] = gc.complete_edges;
+  section["work"] = gc.work;
+  Json points = Json::array();
+  for (std::size_t g = 0; g < result.grid.size(); ++g) {
+    Json point;
+    point["density"] = result.grid[g].density;
+    point["edges"] = result.grid[g].edges;
+    point["complete"] = g < gc.complete_points;
+    point["chi"] = g < gc.complete_points ? Json(to_decimal(gc.chi[g])) : Json(nullptr);
+    Json counts = Json::array();
+    for (const int128 c : gc.counts[g]) counts.push_back(to_decimal(c));
+    point["counts"] = std::move(counts);
+    if (o.node_counts && !gc.node_counts[g].empty()) {
+      Json nodes = Json::array();
+      for (const auto& row : gc.node_counts[g]) {
+        Json r = Json::array();
+        for (const int128 c : row) r.push_back(to_decimal(c));
+        nodes.push_back(std::move(r));
+      }
+      point["node_counts"] = std::move(nodes);
+    }
+    points.push_back(std::move(point));
+  }
+  section["points"] = std::move(points);
+  result.sections["cliques"] = std::move(section);
+}
+}  // namespace
 
 SweepOptions parse_sweep_options(const Json& options) {
   OptionReader r(options, "sweep options");
@@ -65,6 +124,73 @@ SweepResult run_sweep(const connectivity::Matrix& matrix, const SweepOptions& op
 
   // Engines add their columns and sections here, in this order:
   // cliques (counts, chi), homology (betti), curvature, transitions.
+
+  // --- cliques: exact clique counts Cl_k and chi (core/cliques). On by default;
+  // "cliques": false turns it off. Later blocks (curvature) read clique_counts.
+  cliques::GridCounts clique_counts;
+  bool have_clique_counts = false;
+  const bool wants_curvature = options.engine_options.contains("curvature") &&
+                               !(options.engine_options.at("curvature").is_boolean() &&
+                                 !options.engine_options.at("curvature").get<bool>());
+  {
+    const Json section = options.engine_options.contains("cliques") ? options.engine_options.at("cliques") : Json();
+    if (!(section.is_boolean() && !section.get<bool>())) {
+      cliques::Options copt = cliques::parse_options(section.is_boolean() ? Json() : section);
+      if (wants_curvature && copt.chi_only)
+        fail(ErrorKind::argument, "sweep options: \"curvature\" needs every clique size; drop cliques.chi_only");
+      copt.node_counts = copt.node_counts || wants_curvature;  // the curvature block needs them
+      clique_counts = cliques::count_on_grid(result.filtration, result.grid, copt, progress);
+      have_clique_counts = true;
+      add_clique_columns(result, clique_counts, copt);
+    }
+  }
+  (void)have_clique_counts;
+
+  // --- homology: barcodes and Betti curves betti_0..betti_K (core/homology). On when
+  // the options have a "homology" section (the CLI's --betti K). Where the clique
+  // engine ran and no simplex lies above the computed dimensions, Euler-Poincare
+  // (chi = sum (-1)^k beta_k) must hold exactly: a mismatch is a bug, never output.
+  if (options.engine_options.contains("homology")) {
+    const homology::Options hopt = homology::parse_options(options.engine_options.at("homology"));
+    const homology::Result bars = homology::compute(result.filtration, result.grid, hopt, progress);
+    homology::add_columns(bars, result.columns, result.rows);
+    Json section = homology::to_json(bars, result.filtration);
+    if (have_clique_counts) {
+      const auto checked = homology::check_euler_poincare(bars, clique_counts.counts, clique_counts.chi,
+                                                          clique_counts.complete_points);
+      section["euler_poincare_checked_points"] = checked;
+    }
+    result.sections["homology"] = std::move(section);
+  }
+
+  // --- curvature: Gauss-Bonnet node curvature from the exact node clique counts, with
+  // the identity sum kappa_i = chi checked at every point, and Forman-Ricci edge
+  // curvature (core/curvature). On when the options have a "curvature" section (the
+  // CLI's --curvature).
+  std::optional<curvature::OnGrid> curvature_grid;
+  if (wants_curvature) {
+    if (!have_clique_counts)
+      fail(ErrorKind::argument, "sweep options: \"curvature\" needs the clique engine (remove \"cliques\": false)");
+    const curvature::Options kopt = curvature::parse_options(options.engine_options.at("curvature"));
+    curvature_grid = curvature::on_grid(result.filtration, result.grid, clique_counts, kopt);
+    curvature::add_columns(*curvature_grid, result.columns, result.rows);
+    result.sections["curvature"] = curvature::to_json(*curvature_grid, result.names);
+  }
+
+  // --- transitions: zeros of chi, Betti crossings and peaks, the Erdos-Renyi reference
+  // and the summary record (core/transitions). On whenever chi or Betti curves exist;
+  // "transitions": false turns it off.
+  {
+    const Json section = options.engine_options.contains("transitions") ? options.engine_options.at("transitions") : Json();
+    const transitions::Options topt = transitions::parse_options(section, "sweep options: transitions");
+    transitions::Curves curves = transitions::gather(result.grid, have_clique_counts ? &clique_counts : nullptr,
+                                                     curvature_grid ? &*curvature_grid : nullptr, result.columns,
+                                                     result.rows);
+    if (topt.enabled && (!curves.chi.empty() || !curves.betti.empty())) {
+      transitions::add_columns(curves, result.columns, result.rows);
+      result.sections["transitions"] = transitions::analyse(curves, result.nodes, topt);
+    }
+  }
 
   if (progress && progress(1.0)) fail(ErrorKind::cancelled, "sweep cancelled by the progress callback");
   return result;

@@ -1,0 +1,60 @@
+// The clique engine: exact clique counts Cl_k, the Euler characteristic chi and the
+// node clique counts Cl_{i,k} of the flag complex, along the density filtration.
+//
+// Method (METHODS.md, "Euler characteristic and Betti numbers"): when edge uv enters,
+// the new simplices are uv + S for every clique S (empty included) of the common
+// neighbourhood of u and v. Those cliques are counted, never listed, by a pivoting
+// tree (Jain & Seshadhri 2020): a leaf with h hold nodes and p pivot nodes stands for
+// C(p, j) cliques of h + j nodes. chi needs only the branches that never take a pivot
+// (a leaf with p >= 1 is a cone and adds 0), so chi_only skips every pivot branch.
+//
+// Exactness: every count is a 128-bit integer; a count that would not fit stops the
+// sweep there ("count_overflow") instead of wrapping. Results do not depend on the
+// thread count (integer sums in a fixed order of grid intervals).
+// Budgets: max_dimension truncates counts above that dimension (chi then stops being
+// exact where truncation first happens); max_work bounds the number of pivoting-tree
+// nodes visited. A stop is part of the result (complete_points, stopped_by).
+#pragma once
+
+#include <cstddef>
+#include <functional>
+#include <string>
+#include <vector>
+
+#include "base/exact.hpp"
+#include "base/options.hpp"
+#include "filtration/filtration.hpp"
+
+namespace critplex::cliques {
+
+struct Options {
+  int max_dimension = -1;  // -1: none; else counts of dimension > max_dimension are not computed
+  double max_work = 0;     // 0: none; else the most pivoting-tree nodes the sweep may visit
+  int threads = 0;         // 0: all cores
+  bool node_counts = false;
+  bool chi_only = false;
+};
+
+// The "cliques" section of the sweep options (keys as above, snake_case); unknown keys
+// are errors. A null section gives the defaults.
+Options parse_options(const Json& section);
+Json options_to_json(const Options& o);
+
+struct GridCounts {
+  std::vector<std::vector<int128>> counts;   // [grid point][k]: k-simplices (cliques of k+1 nodes), k = 0..
+  std::vector<int128> chi;                   // [grid point]
+  std::vector<std::vector<std::vector<int128>>> node_counts;  // [grid point][node][k]: k-simplices containing the node (k=0 gives 1); filled when requested
+  std::size_t complete_points = 0;           // grid points fully computed (a budget may stop earlier)
+  std::string stopped_by;                    // "" when complete, else "max_work", "max_dimension" (when it truncates counts), "count_overflow"
+  // Points at index >= complete_points: counts[k] exact for k <= max_dimension when
+  // stopped_by is "max_dimension" (chi is then not exact); empty vectors otherwise.
+  std::size_t complete_edges = 0;            // edges of the filtration fully processed
+  double work = 0;                           // pivoting-tree nodes visited (up to the last complete point)
+};
+
+// Counts on the grid. progress(fraction) returning true cancels (ErrorKind::cancelled);
+// it is called only on the calling thread. An empty function is allowed.
+GridCounts count_on_grid(const filtration::Filtration& f, const std::vector<filtration::GridPoint>& grid,
+                         const Options& o, const std::function<bool(double)>& progress);
+
+}  // namespace critplex::cliques

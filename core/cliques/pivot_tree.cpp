@@ -1,0 +1,210 @@
+#include "cliques/pivot_tree.hpp"
+
+#include <algorithm>
+#include <bit>
+
+namespace critplex::cliques {
+
+BitGraph::BitGraph(std::size_t nodes) : nodes_(nodes), words_((nodes + 63) / 64), bits_(nodes * words_, 0) {}
+
+void BitGraph::add_edge(std::uint32_t u, std::uint32_t v) {
+  bits_[u * words_ + v / 64] |= std::uint64_t{1} << (v % 64);
+  bits_[v * words_ + u / 64] |= std::uint64_t{1} << (u % 64);
+}
+
+void IntervalTally::add_leaf(std::size_t h, std::size_t p) {
+  if (h >= rows || p >= stride) {
+    // Grow with slack so a deep tree does not reallocate on every new maximum.
+    std::size_t new_rows = std::max({rows, h + 1 + h / 2, std::size_t{8}});
+    std::size_t new_stride = std::max({stride, p + 1 + p / 2, std::size_t{8}});
+    std::vector<std::uint64_t> grown(new_rows * new_stride, 0);
+    for (std::size_t i = 0; i < rows; ++i)
+      for (std::size_t j = 0; j < stride; ++j) grown[i * new_stride + j] = leaves[i * stride + j];
+    leaves = std::move(grown);
+    rows = new_rows;
+    stride = new_stride;
+  }
+  ++leaves[h * stride + p];
+}
+
+LinkCounter::LinkCounter(std::size_t nodes, bool chi_only, std::size_t max_nodes, bool node_counts)
+    : chi_only_(chi_only), max_nodes_(max_nodes), node_counts_(node_counts), words_((nodes + 63) / 64) {
+  // Depth never exceeds the size of a common neighbourhood (< nodes) plus the root.
+  sets_.assign((nodes + 2) * words_, 0);
+  rest_.assign((nodes + 2) * words_, 0);
+}
+
+int128 LinkCounter::binomial(std::size_t n, std::size_t k) {
+  if (k > n) return 0;
+  while (binomials_.size() <= n) {
+    const std::size_t m = binomials_.size();
+    std::vector<int128> row(m + 1, 1);
+    for (std::size_t j = 1; j < m; ++j) {
+      const int128 a = binomials_[m - 1][j - 1], b = binomials_[m - 1][j];
+      int128 s;
+      row[j] = (a < 0 || b < 0 || __builtin_add_overflow(a, b, &s)) ? int128{-1} : s;
+    }
+    binomials_.push_back(std::move(row));
+  }
+  return binomials_[n][k];
+}
+
+void LinkCounter::tick() {
+  ++tally_->work;
+  if (++since_poll_ >= 4096) {
+    since_poll_ = 0;
+    if ((*poll_)()) throw StopWalk{};
+  }
+}
+
+void LinkCounter::count_edge(const BitGraph& g, std::uint32_t u, std::uint32_t v, IntervalTally& tally,
+                             const std::function<bool()>& poll) {
+  g_ = &g;
+  tally_ = &tally;
+  poll_ = &poll;
+  u_ = u;
+  v_ = v;
+  holds_.clear();
+  pivots_.clear();
+  const std::uint64_t* ru = g.row(u);
+  const std::uint64_t* rv = g.row(v);
+  std::uint64_t* root = sets_.data();
+  std::size_t lo = words_, hi = 0;
+  for (std::size_t w = 0; w < words_; ++w) {
+    root[w] = ru[w] & rv[w];
+    if (root[w]) {
+      lo = std::min(lo, w);
+      hi = w + 1;
+    }
+  }
+  if (hi == 0) lo = 0;
+  ++tally.edges;
+  ++tally.work;
+  walk(0, lo, hi, 0, 0);
+}
+
+void LinkCounter::leaf(std::size_t h, std::size_t p) {
+  if (chi_only_) {
+    // A pivot-free leaf: the simplices uv + H, of dimension h + 1, add (-1)^(h+1).
+    tally_->chi_delta += (h % 2 == 1) ? 1 : -1;
+    return;
+  }
+  // Link cliques of h + j nodes are simplices of dimension 1 + h + j.
+  std::size_t top_j = p;
+  if (max_nodes_ != 0 && 2 + h + p > max_nodes_) {
+    tally_->truncated = true;
+    top_j = max_nodes_ - 2 - h;  // walk() never lets 2 + h exceed max_nodes_
+  }
+  tally_->add_leaf(h, p);
+  if (!node_counts_) return;
+  auto add = [&](std::uint32_t node, std::size_t dim, int128 amount) {
+    auto& row = tally_->node_delta[node];
+    if (row.size() <= dim) row.resize(dim + 1, 0);
+    if (amount < 0 || __builtin_add_overflow(row[dim], amount, &row[dim])) tally_->overflow = true;
+  };
+  // The edge's ends and every hold node are in all C(p, j) cliques of the leaf.
+  for (std::size_t j = 0; j <= top_j; ++j) {
+    const int128 c = binomial(p, j);
+    add(u_, 1 + h + j, c);
+    add(v_, 1 + h + j, c);
+    for (std::uint32_t x : holds_) add(x, 1 + h + j, c);
+  }
+  // A pivot node is in C(p - 1, j - 1) of the cliques with j pivots.
+  for (std::size_t j = 1; j <= top_j; ++j) {
+    const int128 c = binomial(p - 1, j - 1);
+    for (std::uint32_t x : pivots_) add(x, 1 + h + j, c);
+  }
+}
+
+void LinkCounter::walk(std::size_t depth, std::size_t lo, std::size_t hi, std::size_t h, std::size_t p) {
+  tick();
+  const std::uint64_t* set = sets_.data() + depth * words_;
+  std::size_t size = 0;
+  for (std::size_t w = lo; w < hi; ++w) size += static_cast<std::size_t>(std::popcount(set[w]));
+  if (size == 0) {
+    leaf(h, p);
+    return;
+  }
+
+  // Pivot: the candidate with the most neighbours among the candidates (first on ties).
+  std::size_t pivot = 0, best = 0, degree_sum = 0;
+  bool found = false;
+  for (std::size_t w = lo; w < hi; ++w) {
+    for (std::uint64_t bits = set[w]; bits; bits &= bits - 1) {
+      const std::size_t x = w * 64 + static_cast<std::size_t>(std::countr_zero(bits));
+      const std::uint64_t* row = g_->row(x);
+      std::size_t d = 0;
+      for (std::size_t i = lo; i < hi; ++i) d += static_cast<std::size_t>(std::popcount(row[i] & set[i]));
+      if (!found || d > best) {
+        pivot = x;
+        best = d;
+        found = true;
+      }
+      degree_sum += d;
+      // A node joined to every other candidate makes the link a cone: its reduced
+      // Euler characteristic is 0, so chi gains nothing from here.
+      if (chi_only_ && d + 1 == size) return;
+    }
+  }
+
+  std::uint64_t* child = sets_.data() + (depth + 1) * words_;
+  auto fill_child = [&](const std::uint64_t* a, const std::uint64_t* b, std::size_t& clo, std::size_t& chi) {
+    clo = hi;
+    chi = lo;
+    for (std::size_t w = lo; w < hi; ++w) {
+      child[w] = a[w] & b[w];
+      if (child[w]) {
+        if (clo == hi) clo = w;
+        chi = w + 1;
+      }
+    }
+    if (chi <= clo) clo = chi = lo;
+  };
+
+  if (!chi_only_) {
+    if (degree_sum == size * (size - 1)) {
+      // The candidates form a clique: one leaf with all of them as pivots.
+      if (node_counts_)
+        for (std::size_t w = lo; w < hi; ++w)
+          for (std::uint64_t bits = set[w]; bits; bits &= bits - 1)
+            pivots_.push_back(static_cast<std::uint32_t>(w * 64 + static_cast<std::size_t>(std::countr_zero(bits))));
+      leaf(h, p + size);
+      if (node_counts_) pivots_.resize(pivots_.size() - size);
+      return;
+    }
+    std::size_t clo, chi;
+    fill_child(set, g_->row(pivot), clo, chi);
+    if (node_counts_) pivots_.push_back(static_cast<std::uint32_t>(pivot));
+    walk(depth + 1, clo, chi, h, p + 1);
+    if (node_counts_) pivots_.pop_back();
+  }
+
+  // Branches on the candidates outside the pivot's neighbourhood, each taken as a hold
+  // node and removed from later branches so every clique is counted once.
+  const std::uint64_t* pivot_row = g_->row(pivot);
+  bool any = false;
+  for (std::size_t w = lo; w < hi && !any; ++w)
+    any = (set[w] & ~pivot_row[w] & ~(w == pivot / 64 ? std::uint64_t{1} << (pivot % 64) : 0)) != 0;
+  if (!any) return;
+  if (max_nodes_ != 0 && 3 + h > max_nodes_) {
+    tally_->truncated = true;
+    return;
+  }
+  std::uint64_t* rest = rest_.data() + depth * words_;
+  for (std::size_t w = lo; w < hi; ++w) rest[w] = set[w];
+  rest[pivot / 64] &= ~(std::uint64_t{1} << (pivot % 64));
+  for (std::size_t w = lo; w < hi; ++w) {
+    for (std::uint64_t bits = set[w] & ~pivot_row[w]; bits; bits &= bits - 1) {
+      const std::size_t x = w * 64 + static_cast<std::size_t>(std::countr_zero(bits));
+      if (x == pivot) continue;
+      std::size_t clo, chi;
+      fill_child(rest, g_->row(x), clo, chi);
+      if (node_counts_) holds_.push_back(static_cast<std::uint32_t>(x));
+      walk(depth + 1, clo, chi, h + 1, p);
+      if (node_counts_) holds_.pop_back();
+      rest[w] &= ~(std::uint64_t{1} << (x % 64));
+    }
+  }
+}
+
+}  // namespace critplex::cliques
