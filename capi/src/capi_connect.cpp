@@ -113,6 +113,23 @@ cpx_status cpx_series_read_image(const char* image_path, const char* labels_path
   });
 }
 
+cpx_status cpx_series_clean(const cpx_series* series, const char* options_json, cpx_series** out) {
+  return guard("cpx_series_clean", [&] {
+    require_pointer(series, "series");
+    require_pointer(out, "out");
+    const std::string where = "options of cpx_series_clean";
+    const auto options = parse_options(options_json, where);
+    for (const char* key : {"method", "fisher_z", "partial_basis"})
+      if (options.contains(key))
+        fail(ErrorKind::argument, where + ": option \"" + key + "\" belongs to cpx_connect, not to cleaning");
+    const auto parsed = connectivity::parse_connect_options(options, where);
+    const auto inputs = io::load_clean_inputs(parsed.clean);
+    auto h = std::make_unique<cpx_series>();
+    h->value = connectivity::clean_series(series->value, parsed, inputs);
+    *out = h.release();
+  });
+}
+
 cpx_status cpx_series_sampling_interval(const cpx_series* series, double* seconds) {
   return guard("cpx_series_sampling_interval", [&] {
     require_pointer(series, "series");

@@ -183,22 +183,67 @@ Eigen::MatrixXd estimate(const Eigen::MatrixXd& x, const ConnectOptions& o, Json
 
 }  // namespace
 
-std::vector<BandMatrix> connect(const series::Series& input, const ConnectOptions& o, const series::CleanInputs& in) {
+namespace {
+
+// Steps shared by every band: regression (fit on kept frames) and the censoring mask.
+struct Prepared {
+  Eigen::MatrixXd cleaned;
+  std::vector<bool> keep;  // empty: no censoring
+  double dt;
+  std::string origin;
+};
+
+Prepared prepare(const series::Series& input, const ConnectOptions& o, const series::CleanInputs& in) {
   series::validate(input);
+  Prepared p;
   const Eigen::Index T = input.frames();
-  const double dt = std::isfinite(o.sampling_interval) ? o.sampling_interval : input.sampling_interval;
-  const std::string origin = input.source.empty() ? std::string("time series") : input.source;
+  p.dt = std::isfinite(o.sampling_interval) ? o.sampling_interval : input.sampling_interval;
+  p.origin = input.source.empty() ? std::string("time series") : input.source;
   if (in.confounds.cols() > 0 && in.confounds.rows() != T)
     fail(ErrorKind::data, "the confounds table '" + o.clean.regressor_table + "' has " + std::to_string(in.confounds.rows()) +
-                              " rows but " + origin + " has " + std::to_string(T) + " frames");
-  const bool censoring = in.motion.size() > 0 || in.mask.size() > 0;
-  std::vector<bool> keep;
-  if (censoring) keep = series::frames_to_keep(T, in.motion, o.clean.motion_limit, in.mask, o.clean.min_frames);
-
-  // Regression before filtering; the fit uses the kept frames only.
-  Eigen::MatrixXd cleaned = input.values;
+                              " rows but " + p.origin + " has " + std::to_string(T) + " frames");
+  if (in.motion.size() > 0 || in.mask.size() > 0)
+    p.keep = series::frames_to_keep(T, in.motion, o.clean.motion_limit, in.mask, o.clean.min_frames);
+  p.cleaned = input.values;
   if (in.confounds.cols() > 0 || o.clean.trend_order >= 0)
-    cleaned = series::regress_out(cleaned, in.confounds, o.clean.trend_order, keep);
+    p.cleaned = series::regress_out(p.cleaned, in.confounds, o.clean.trend_order, p.keep);
+  for (const auto& b : o.bands)
+    series::check_band(b, o.filter, p.dt, T, b.name.empty() ? std::string("filter") : "band \"" + b.name + "\"");
+  return p;
+}
+
+// Band-limited, censored and (if asked) standardised values: what correlation estimators see.
+Eigen::MatrixXd finish_band(const Prepared& p, const series::Band& b, const ConnectOptions& o,
+                            const series::Series& input, bool drop_censored) {
+  Eigen::MatrixXd x = p.cleaned;
+  const std::string where = b.name.empty() ? std::string("filter") : "band \"" + b.name + "\"";
+  if (b.has_low() || b.has_high()) x = series::band_limit(x, b, o.filter, p.dt, where);
+  if (!drop_censored) return x;
+  if (!p.keep.empty()) x = series::keep_rows(x, p.keep);
+  if (o.clean.unit_variance) x = series::standardise(x, input.names);
+  return x;
+}
+
+}  // namespace
+
+series::Series clean_series(const series::Series& input, const ConnectOptions& o, const series::CleanInputs& in) {
+  if (o.bands.size() > 1) fail(ErrorKind::argument, "cleaning gives one series; name at most one band");
+  const Prepared p = prepare(input, o, in);
+  series::Series out;
+  out.values = finish_band(p, o.bands.empty() ? series::Band{} : o.bands[0], o, input, true);
+  out.names = input.names;
+  out.sampling_interval = p.dt;
+  out.source = input.source;
+  return out;
+}
+
+std::vector<BandMatrix> connect(const series::Series& input, const ConnectOptions& o, const series::CleanInputs& in) {
+  const Prepared p = prepare(input, o, in);
+  const Eigen::Index T = input.frames();
+  const double dt = p.dt;
+  const std::string& origin = p.origin;
+  const bool censoring = !p.keep.empty();
+  const std::vector<bool>& keep = p.keep;
 
   Json base = Json::object();
   base["method"] = o.method_name;
@@ -213,16 +258,10 @@ std::vector<BandMatrix> connect(const series::Series& input, const ConnectOption
 
   std::vector<series::Band> bands = o.bands;
   if (bands.empty()) bands.push_back(series::Band{});  // no band limiting
-  // Check every band before computing any, so a bad band fails fast.
-  for (const auto& b : bands)
-    if (b.has_low() || b.has_high())
-      series::check_band(b, o.filter, dt, T, b.name.empty() ? std::string("filter") : "band \"" + b.name + "\"");
 
   std::vector<BandMatrix> out;
   for (const auto& b : bands) {
-    Eigen::MatrixXd x = cleaned;
-    const std::string where = b.name.empty() ? std::string("filter") : "band \"" + b.name + "\"";
-    if (b.has_low() || b.has_high()) x = series::band_limit(x, b, o.filter, dt, where);
+    Eigen::MatrixXd x = finish_band(p, b, o, input, !is_phase(o.method));
     Json info = base;
     if (b.has_low() || b.has_high()) info["band"] = band_info(b, o.filter);
 
@@ -246,11 +285,10 @@ std::vector<BandMatrix> connect(const series::Series& input, const ConnectOption
                                                            : PhaseMeasure::envelope_orthogonalised;
       r = phase_coupling(z, m);
     } else {
-      if (censoring) x = series::keep_rows(x, keep);
-      if (o.clean.unit_variance) x = series::standardise(x, input.names);
       for (Eigen::Index j = 0; j < x.cols(); ++j) {
-        const double first = x(0, j);
-        if ((x.col(j).array() == first).all())
+        // Cleaning leaves rounding noise where it removed everything: compare with the input scale.
+        const double range = x.col(j).maxCoeff() - x.col(j).minCoeff();
+        if (!(range > 1e-12 * input.values.col(j).cwiseAbs().maxCoeff()))
           fail(ErrorKind::data, origin + ": region '" + input.names[static_cast<std::size_t>(j)] +
                                     "' is constant after cleaning" + (b.name.empty() ? "" : " in band \"" + b.name + "\""));
       }

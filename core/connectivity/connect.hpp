@@ -44,4 +44,10 @@ struct BandMatrix {
 std::vector<BandMatrix> connect(const series::Series& series, const ConnectOptions& options,
                                 const series::CleanInputs& inputs);
 
+// The series the correlation estimators would see (cleaned, band-limited with at most one
+// band, censored, standardised if asked), for hosts that want it and for checking the
+// steps one by one.
+series::Series clean_series(const series::Series& series, const ConnectOptions& options,
+                            const series::CleanInputs& inputs);
+
 }  // namespace critplex::connectivity

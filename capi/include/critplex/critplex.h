@@ -160,6 +160,11 @@ CPX_API cpx_status cpx_matrix_set_get(const cpx_matrix_set* set, size_t index, c
  * grids, non-integer labels, labels without voxels, unsupported datatypes. */
 CPX_API cpx_status cpx_series_read_image(const char* image_path, const char* labels_path, const char* options_json,
                                          cpx_series** out);
+/* The series the correlation estimators of cpx_connect would see: cleaned, band-limited
+ * (at most one band), censored frames dropped, standardised if asked. Options: the
+ * "clean", "filter", "bands" (one band) and "sampling_interval" keys of the connect
+ * options. Free the result with cpx_series_free. */
+CPX_API cpx_status cpx_series_clean(const cpx_series* series, const char* options_json, cpx_series** out);
 /* Sampling interval of a series in seconds (NaN when unknown, e.g. read from TSV). */
 CPX_API cpx_status cpx_series_sampling_interval(const cpx_series* series, double* seconds);
 
