@@ -192,6 +192,44 @@ CPX_API cpx_status cpx_sweep_column_name(const cpx_sweep* sweep, size_t index, c
  * 2^53 are rounded here, use cpx_sweep_json for exact values). */
 CPX_API cpx_status cpx_sweep_curve(const cpx_sweep* sweep, const char* column, double* buffer, size_t buffer_length);
 
+/* ------------------------------------------------------------------------------------ */
+/* Group statistics, surrogates and rewiring (owner: cohort/simulate stages)             */
+/* ------------------------------------------------------------------------------------ */
+/* Results come back as JSON text (release with cpx_string_free). Options are JSON (README,
+ * "Group statistics and null models"); every random choice comes from "seed", so a result
+ * is the same for a given seed. Research software: no clinical decisions. */
+
+/* Permutation test of a difference between group a (n_a values) and group b (n_b values).
+ * Options: {"statistic": "mean_difference"|"welch_t"|"student_t", "alternative":
+ * "two_sided"|"less"|"greater", "exact_limit": 20000, "resamples": 9999, "seed": 1}.
+ * Every relabelling is enumerated when there are at most exact_limit of them, else
+ * "resamples" random ones. Result: {"statistic", "p_value", "exact", "null_size", "n_a",
+ * "n_b", "mean_a", "mean_b", "cohen_d", "hedges_g", "hedges_correction", ...}. */
+CPX_API cpx_status cpx_stats_permutation_test(const double* a, size_t n_a, const double* b, size_t n_b,
+                                              const char* options_json, char** result_json);
+/* Percentile bootstrap band of the mean curve of subjects x points values (resampling
+ * subjects). Options: {"confidence": 0.95, "resamples": 9999, "seed": 1}.
+ * Result: {"mean": [...], "lower": [...], "upper": [...]}. */
+CPX_API cpx_status cpx_stats_bootstrap_band(const double* curves, size_t subjects, size_t points, cpx_layout layout,
+                                            const char* options_json, char** result_json);
+/* Cluster-based permutation test of two groups of curves (n_a x points and n_b x points,
+ * same layout). Options: {"statistic": "student_t"|"welch_t", "threshold": (default the
+ * two-sided 5% Student t quantile), "exact_limit", "resamples", "seed"}.
+ * Result: {"t": [...], "threshold", "clusters": [{"first", "last", "sign", "mass",
+ * "p_value"}], "exact", "null_size"}. */
+CPX_API cpx_status cpx_stats_cluster_test(const double* a, size_t n_a, const double* b, size_t n_b, size_t points,
+                                          cpx_layout layout, const char* options_json, char** result_json);
+/* Benjamini-Hochberg adjusted p-values, in the input order, into adjusted[0..n). */
+CPX_API cpx_status cpx_stats_fdr(const double* p_values, size_t n, double* adjusted, size_t adjusted_length);
+/* Residuals of values (one per subject) after least squares on an intercept and the
+ * subjects x columns covariates. */
+CPX_API cpx_status cpx_stats_residualise(const double* values, size_t subjects, const double* covariates,
+                                         size_t columns, cpx_layout layout, double* residuals,
+                                         size_t residuals_length);
+/* Quantile of Student's t distribution: P(T <= *quantile) = probability. */
+CPX_API cpx_status cpx_stats_t_quantile(double probability, double degrees_of_freedom, double* quantile);
+/* (end of the group statistics section) */
+
 /* --- stage sections below are added by the stages that own them ----------------------- */
 
 #ifdef __cplusplus
