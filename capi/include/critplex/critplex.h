@@ -232,6 +232,40 @@ CPX_API cpx_status cpx_stats_t_quantile(double probability, double degrees_of_fr
 
 /* --- stage sections below are added by the stages that own them ----------------------- */
 
+/* ------------------------------------------------------------------------------------ */
+/* Curvature and transitions                                                             */
+/* ------------------------------------------------------------------------------------ */
+
+/* Node curvature curves of a sweep run with a "curvature" section: a points x nodes
+ * matrix (kappa_i at each grid point; NaN where the clique engine stopped early) in
+ * `layout`. Two calls: with buffer NULL only *points and *nodes are set; then a buffer of
+ * at least points * nodes doubles. points and nodes may be NULL on the second call.
+ * Returns CPX_ERR_ARGUMENT when the sweep has no curvature or the buffer is too short.
+ * Independent handles: safe in parallel. Since 0.1. */
+CPX_API cpx_status cpx_sweep_node_curvature(const cpx_sweep* sweep, cpx_layout layout, double* buffer,
+                                            size_t buffer_length, size_t* points, size_t* nodes);
+/* The transitions summary record of a sweep as TSV (header row first; one row per chi
+ * zero, chi touch, Betti crossing, Betti peak and random-graph zero; README, "Curvature
+ * and transitions"). Release with cpx_string_free. Since 0.1. */
+CPX_API cpx_status cpx_sweep_transitions_tsv(const cpx_sweep* sweep, char** tsv);
+/* Transitions of curves computed elsewhere. density: `points` non-decreasing values;
+ * chi: `points` values or NULL; betti: points x dimensions values in `layout`, or NULL
+ * (dimensions 0); NaN marks unknown values. nodes: N of the network for the Erdos-Renyi
+ * reference (0: none). Options: the "transitions" section of the sweep options. *json
+ * receives the "transitions" object of the sweep JSON; release with cpx_string_free.
+ * Since 0.1. */
+CPX_API cpx_status cpx_transitions_from_curves(const double* density, const double* chi, size_t points,
+                                               const double* betti, size_t dimensions, cpx_layout layout,
+                                               size_t nodes, const char* options_json, char** json);
+/* Erdos-Renyi G(N, p) closed forms: E[chi] and E[kappa] at each of `count` values of p
+ * (in [0, 1]), evaluated in paired binary128 arithmetic (about 67 digits) with an error
+ * estimate, and, unless options {"zeros": false}, their zeros in (0, max_p]. Options:
+ * {"zeros": true, "max_p": 1, "scan_points": 2000}. *json: {"nodes", "arithmetic",
+ * "values": [{"p", "chi", "chi_decimal", "chi_relative_error_bound", "chi_reliable",
+ * "kappa", "kappa_decimal", ...}], "zeros": {...} | null}. Since 0.1. */
+CPX_API cpx_status cpx_random_graph_expectations(size_t nodes, const double* p, size_t count,
+                                                 const char* options_json, char** json);
+
 #ifdef __cplusplus
 } /* extern "C" */
 #endif
