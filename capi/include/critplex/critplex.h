@@ -228,6 +228,24 @@ CPX_API cpx_status cpx_stats_residualise(const double* values, size_t subjects, 
                                          size_t residuals_length);
 /* Quantile of Student's t distribution: P(T <= *quantile) = probability. */
 CPX_API cpx_status cpx_stats_t_quantile(double probability, double degrees_of_freedom, double* quantile);
+
+/* A surrogate of `series` (same shape, names and sampling interval). Options:
+ * {"method": "phase_multivariate"|"phase_independent"|"iaaft", "seed": 1,
+ * "iaaft_iterations": 100}. Every method keeps each region's amplitude spectrum;
+ * phase_multivariate also keeps the correlation matrix, the others destroy coupling;
+ * iaaft also keeps each region's sorted values exactly. */
+CPX_API cpx_status cpx_surrogate(const cpx_series* series, const char* options_json, cpx_series** out);
+/* Degree-preserving rewiring (Maslov-Sneppen) of a simple graph on `nodes` nodes given as
+ * edge_count pairs (u, v) in edges[0 .. 2*edge_count). Writes the rewired pairs (u < v,
+ * sorted) into rewired (length >= 2*edge_count). Options: {"swaps_per_edge": 10, "seed": 1}. */
+CPX_API cpx_status cpx_rewire_edges(size_t nodes, const uint32_t* edges, size_t edge_count, const char* options_json,
+                                    uint32_t* rewired, size_t rewired_length);
+/* The demo cohort's model (README, "Group statistics and null models"): the plan as JSON
+ * {"model", "subjects": [{"subject", "group", "seed", "global_strength", "age"}], "module",
+ * "base_loading", "region_names"}. Invented data. */
+CPX_API cpx_status cpx_simulate_plan(const char* options_json, char** plan_json);
+/* The time series of subject `index` (0-based, in plan order) of the same model. */
+CPX_API cpx_status cpx_simulate_subject(const char* options_json, size_t index, cpx_series** out);
 /* (end of the group statistics section) */
 
 /* --- stage sections below are added by the stages that own them ----------------------- */

@@ -1,0 +1,92 @@
+#include "simulate/rewire.hpp"
+
+#include <algorithm>
+#include <cmath>
+#include <string>
+#include <unordered_set>
+
+#include "base/error.hpp"
+#include "cohort/random.hpp"
+
+namespace critplex::simulate {
+
+namespace {
+
+std::uint64_t key(std::uint32_t u, std::uint32_t v) {
+  if (u > v) std::swap(u, v);
+  return (static_cast<std::uint64_t>(u) << 32) | v;
+}
+
+}  // namespace
+
+std::vector<std::size_t> degrees(std::size_t nodes, const EdgeList& edges) {
+  std::vector<std::size_t> d(nodes, 0);
+  for (const auto& [u, v] : edges) {
+    ++d.at(u);
+    ++d.at(v);
+  }
+  return d;
+}
+
+RewireResult rewire(std::size_t nodes, const EdgeList& edges, const RewireOptions& options) {
+  if (!(options.swaps_per_edge >= 0.0 && std::isfinite(options.swaps_per_edge)))
+    fail(ErrorKind::argument, "swaps_per_edge must be a non-negative number");
+  if (nodes > UINT32_MAX) fail(ErrorKind::argument, "rewiring: too many nodes");
+  RewireResult result;
+  result.edges = edges;
+  std::unordered_set<std::uint64_t> present;
+  present.reserve(edges.size() * 2);
+  for (std::size_t i = 0; i < edges.size(); ++i) {
+    auto& [u, v] = result.edges[i];
+    if (u >= nodes || v >= nodes)
+      fail(ErrorKind::argument, "edge " + std::to_string(i + 1) + " names node " + std::to_string(std::max(u, v)) +
+                                    " of a graph with " + std::to_string(nodes) + " nodes");
+    if (u == v) fail(ErrorKind::argument, "edge " + std::to_string(i + 1) + " is a self-loop on node " + std::to_string(u));
+    if (u > v) std::swap(u, v);
+    if (!present.insert(key(u, v)).second)
+      fail(ErrorKind::argument, "edge " + std::to_string(i + 1) + " (" + std::to_string(u) + ", " + std::to_string(v) +
+                                    ") appears twice");
+  }
+  const std::size_t m = result.edges.size();
+  const auto wanted = static_cast<std::uint64_t>(std::llround(options.swaps_per_edge * static_cast<double>(m)));
+  if (m < 2 || wanted == 0) {
+    result.complete = wanted == 0;
+    std::sort(result.edges.begin(), result.edges.end());
+    return result;
+  }
+  const std::uint64_t budget = wanted * 100;
+  cohort::Random random(options.seed);
+  while (result.swaps < wanted && result.attempts < budget) {
+    ++result.attempts;
+    const auto i = static_cast<std::size_t>(random.below(m));
+    auto j = static_cast<std::size_t>(random.below(m - 1));
+    if (j >= i) ++j;  // two distinct edges
+    auto [a, b] = result.edges[i];
+    auto [c, d] = result.edges[j];
+    if (random.below(2) == 1) std::swap(c, d);  // both ways of reconnecting are proposed
+    if (a == d || c == b) continue;             // self-loop
+    if (present.count(key(a, d)) || present.count(key(c, b))) continue;  // duplicate
+    present.erase(key(a, b));
+    present.erase(key(c, d));
+    present.insert(key(a, d));
+    present.insert(key(c, b));
+    result.edges[i] = {std::min(a, d), std::max(a, d)};
+    result.edges[j] = {std::min(c, b), std::max(c, b)};
+    ++result.swaps;
+  }
+  result.complete = result.swaps >= wanted;
+  std::sort(result.edges.begin(), result.edges.end());
+  return result;
+}
+
+RewireResult rewire_prefix(const filtration::Filtration& f, std::size_t edge_count, const RewireOptions& options) {
+  if (edge_count > f.edges.size())
+    fail(ErrorKind::argument, "rewiring asks for " + std::to_string(edge_count) + " edges but the filtration holds " +
+                                  std::to_string(f.edges.size()));
+  EdgeList edges;
+  edges.reserve(edge_count);
+  for (std::size_t i = 0; i < edge_count; ++i) edges.emplace_back(f.edges[i].u, f.edges[i].v);
+  return rewire(f.nodes, edges, options);
+}
+
+}  // namespace critplex::simulate

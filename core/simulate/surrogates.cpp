@@ -1,0 +1,121 @@
+#include "simulate/surrogates.hpp"
+
+#include <algorithm>
+#include <cmath>
+#include <complex>
+#include <numbers>
+#include <numeric>
+#include <vector>
+
+#include "base/error.hpp"
+#include "cohort/random.hpp"
+#include "series/fft.hpp"
+
+namespace critplex::simulate {
+
+SurrogateMethod surrogate_method_from_name(const std::string& name) {
+  if (name == "phase_multivariate") return SurrogateMethod::phase_multivariate;
+  if (name == "phase_independent") return SurrogateMethod::phase_independent;
+  if (name == "iaaft") return SurrogateMethod::iaaft;
+  fail(ErrorKind::argument, "surrogate method '" + name + "' is not one of phase_multivariate, phase_independent, iaaft");
+}
+
+const char* surrogate_method_name(SurrogateMethod method) {
+  switch (method) {
+    case SurrogateMethod::phase_multivariate: return "phase_multivariate";
+    case SurrogateMethod::phase_independent: return "phase_independent";
+    case SurrogateMethod::iaaft: return "iaaft";
+  }
+  return "?";
+}
+
+namespace {
+
+using Spectrum = std::vector<std::complex<double>>;
+
+// Bins whose phase may turn: 1 .. ceil(T/2) - 1 (DC and an even T's Nyquist bin stay real).
+std::size_t last_free_bin(std::size_t frames) { return (frames - 1) / 2; }
+
+void random_phases(cohort::Random& random, std::vector<std::complex<double>>& rotation) {
+  for (std::size_t k = 1; k < rotation.size(); ++k) rotation[k] = std::polar(1.0, 2.0 * std::numbers::pi * random.uniform());
+}
+
+// Stable ranks: position of each sample in sorted order (ties by time index).
+void ranks_of(const std::vector<double>& x, std::vector<std::size_t>& order, std::vector<std::size_t>& rank) {
+  std::iota(order.begin(), order.end(), 0);
+  std::stable_sort(order.begin(), order.end(), [&](std::size_t i, std::size_t j) { return x[i] < x[j]; });
+  for (std::size_t r = 0; r < order.size(); ++r) rank[order[r]] = r;
+}
+
+}  // namespace
+
+SurrogateResult make_surrogate(const Eigen::MatrixXd& values, const SurrogateOptions& options) {
+  const auto frames = static_cast<std::size_t>(values.rows());
+  const auto regions = static_cast<std::size_t>(values.cols());
+  if (frames < 3) fail(ErrorKind::data, "surrogates need at least 3 time points, got " + std::to_string(frames));
+  if (regions < 1) fail(ErrorKind::data, "surrogates need at least 1 region");
+  for (Eigen::Index j = 0; j < values.cols(); ++j)
+    for (Eigen::Index t = 0; t < values.rows(); ++t)
+      if (!std::isfinite(values(t, j)))
+        fail(ErrorKind::data, "surrogate input: region " + std::to_string(j + 1) + " is not finite at time point " +
+                                  std::to_string(t + 1));
+  if (options.iaaft_iterations < 1) fail(ErrorKind::argument, "iaaft_iterations must be at least 1");
+
+  cohort::Random random(options.seed);
+  series::FftPlans plans(static_cast<Eigen::Index>(frames));
+  const std::size_t bins = frames / 2 + 1, free_end = last_free_bin(frames) + 1;
+  SurrogateResult result;
+  result.values.resize(values.rows(), values.cols());
+  Spectrum spectrum(bins);
+  std::vector<std::complex<double>> rotation(free_end, 1.0);
+  std::vector<double> column(frames), out(frames);
+
+  if (options.method != SurrogateMethod::iaaft) {
+    const bool shared = options.method == SurrogateMethod::phase_multivariate;
+    if (shared) random_phases(random, rotation);
+    for (std::size_t j = 0; j < regions; ++j) {
+      if (!shared) random_phases(random, rotation);
+      for (std::size_t t = 0; t < frames; ++t) column[t] = values(static_cast<Eigen::Index>(t), static_cast<Eigen::Index>(j));
+      plans.forward(column.data(), spectrum.data());
+      for (std::size_t k = 1; k < free_end; ++k) spectrum[k] *= rotation[k];
+      plans.backward(spectrum.data(), out.data());
+      for (std::size_t t = 0; t < frames; ++t) result.values(static_cast<Eigen::Index>(t), static_cast<Eigen::Index>(j)) = out[t];
+    }
+    return result;
+  }
+
+  // IAAFT, region by region.
+  std::vector<double> amplitude(bins), sorted(frames), current(frames);
+  std::vector<std::size_t> order(frames), rank(frames), previous_rank(frames);
+  for (std::size_t j = 0; j < regions; ++j) {
+    for (std::size_t t = 0; t < frames; ++t) column[t] = values(static_cast<Eigen::Index>(t), static_cast<Eigen::Index>(j));
+    plans.forward(column.data(), spectrum.data());
+    for (std::size_t k = 0; k < bins; ++k) amplitude[k] = std::abs(spectrum[k]);
+    sorted = column;
+    std::sort(sorted.begin(), sorted.end());
+    current = column;
+    random.shuffle(current);  // start from a random permutation of the values
+    ranks_of(current, order, previous_rank);
+    int used = 0;
+    for (int iteration = 0; iteration < options.iaaft_iterations; ++iteration) {
+      ++used;
+      // Impose the original amplitudes, keep the current phases.
+      plans.forward(current.data(), spectrum.data());
+      for (std::size_t k = 0; k < bins; ++k) {
+        const double magnitude = std::abs(spectrum[k]);
+        spectrum[k] = magnitude > 0.0 ? spectrum[k] * (amplitude[k] / magnitude) : std::complex<double>(amplitude[k], 0.0);
+      }
+      plans.backward(spectrum.data(), out.data());
+      // Impose the original values by rank.
+      ranks_of(out, order, rank);
+      for (std::size_t t = 0; t < frames; ++t) current[t] = sorted[rank[t]];
+      if (rank == previous_rank) break;  // a fixed point: further rounds change nothing
+      previous_rank = rank;
+    }
+    result.iaaft_iterations_used = std::max(result.iaaft_iterations_used, used);
+    for (std::size_t t = 0; t < frames; ++t) result.values(static_cast<Eigen::Index>(t), static_cast<Eigen::Index>(j)) = current[t];
+  }
+  return result;
+}
+
+}  // namespace critplex::simulate

@@ -1,0 +1,104 @@
+// Unit checks of the simulate stage: rewiring keeps degrees, surrogates are seeded and keep
+// what they promise on small inputs, and the demo cohort model behaves as documented.
+// Reference checks (numpy FFT, networkx, nitime data) are in tests/reference/test_surrogates_fft.py.
+#include <catch2/catch.hpp>
+
+#include <cmath>
+
+#include "base/error.hpp"
+#include "connectivity/pearson.hpp"
+#include "simulate/cohort_model.hpp"
+#include "simulate/rewire.hpp"
+#include "simulate/surrogates.hpp"
+
+using namespace critplex;
+using namespace critplex::simulate;
+
+TEST_CASE("rewiring keeps every degree and is seeded", "[simulate]") {
+  // Two 5-cliques joined by one edge (21 edges), a graph with many legal swaps.
+  EdgeList edges;
+  for (std::uint32_t base : {0u, 5u})
+    for (std::uint32_t i = 0; i < 5; ++i)
+      for (std::uint32_t j = i + 1; j < 5; ++j) edges.emplace_back(base + i, base + j);
+  edges.emplace_back(4, 5);
+  RewireOptions o;
+  o.seed = 3;
+  const auto r = rewire(10, edges, o);
+  CHECK(r.edges.size() == edges.size());
+  CHECK(degrees(10, r.edges) == degrees(10, edges));
+  CHECK(r.swaps > 0);
+  CHECK(rewire(10, edges, o).edges == r.edges);
+  for (const auto& [u, v] : r.edges) CHECK(u < v);
+}
+
+TEST_CASE("a complete graph has no legal swap: reported, not looped forever", "[simulate]") {
+  EdgeList k4{{0, 1}, {0, 2}, {0, 3}, {1, 2}, {1, 3}, {2, 3}};
+  const auto r = rewire(4, k4, {});
+  CHECK_FALSE(r.complete);
+  CHECK(r.swaps == 0);
+  CHECK(r.edges == k4);
+}
+
+TEST_CASE("rewiring rejects self-loops, duplicates and unknown nodes", "[simulate]") {
+  CHECK_THROWS_WITH(rewire(3, {{0, 1}, {1, 0}}, {}), Catch::Contains("edge 2") && Catch::Contains("twice"));
+  CHECK_THROWS_WITH(rewire(3, {{2, 2}}, {}), Catch::Contains("self-loop"));
+  CHECK_THROWS_WITH(rewire(3, {{0, 3}}, {}), Catch::Contains("node 3"));
+}
+
+TEST_CASE("surrogates keep the mean and are seeded", "[simulate]") {
+  Eigen::MatrixXd x(64, 3);
+  for (int t = 0; t < 64; ++t)
+    for (int j = 0; j < 3; ++j) x(t, j) = std::sin(0.3 * t * (j + 1)) + 0.1 * t + j;
+  for (const char* name : {"phase_multivariate", "phase_independent", "iaaft"}) {
+    SurrogateOptions o;
+    o.method = surrogate_method_from_name(name);
+    o.seed = 9;
+    const auto a = make_surrogate(x, o), b = make_surrogate(x, o);
+    CHECK(a.values == b.values);
+    for (int j = 0; j < 3; ++j) CHECK(a.values.col(j).mean() == Approx(x.col(j).mean()).margin(1e-10));
+    CHECK((a.values - x).cwiseAbs().maxCoeff() > 1e-3);
+  }
+  CHECK_THROWS_AS(surrogate_method_from_name("shuffle"), Error);
+  Eigen::MatrixXd bad = x;
+  bad(5, 1) = std::nan("");
+  CHECK_THROWS_WITH(make_surrogate(bad, {}), Catch::Contains("region 2") && Catch::Contains("time point 6"));
+}
+
+TEST_CASE("demo cohort: manifest, shapes, determinism and stronger coupling when deprived", "[simulate]") {
+  CohortModel m;
+  m.regions = 21;
+  m.frames = 300;
+  m.groups = {{"rested", 4, 0.2, 0.05}, {"deprived", 4, 0.7, 0.05}};
+  const auto plan = plan_cohort(m);
+  REQUIRE(plan.subjects.size() == 8);
+  CHECK(plan.subjects[0].id == "rested01");
+  CHECK(plan.subjects[7].id == "deprived04");
+  CHECK(plan.module.back() == 6);
+  const auto s0 = simulate_subject(m, plan, 0);
+  CHECK(s0.frames() == 300);
+  CHECK(s0.regions() == 21);
+  CHECK(s0.sampling_interval == 0.8);
+  CHECK(simulate_subject(m, plan, 0).values == s0.values);
+  // Mean off-diagonal correlation between modules rises with the global signal.
+  auto between_modules = [&](std::size_t index) {
+    const Eigen::MatrixXd r = connectivity::pearson(simulate_subject(m, plan, index).values);
+    double sum = 0.0;
+    int count = 0;
+    for (std::size_t i = 0; i < m.regions; ++i)
+      for (std::size_t j = i + 1; j < m.regions; ++j)
+        if (plan.module[i] != plan.module[j]) {
+          sum += r(static_cast<Eigen::Index>(i), static_cast<Eigen::Index>(j));
+          ++count;
+        }
+    return sum / count;
+  };
+  double rested = 0.0, deprived = 0.0;
+  for (std::size_t k = 0; k < 4; ++k) {
+    rested += between_modules(k);
+    deprived += between_modules(4 + k);
+  }
+  CHECK(deprived > rested + 0.4);
+  CHECK_THROWS_WITH(simulate_subject(m, plan, 8), Catch::Contains("outside"));
+  m.groups[0].name = "well rested";
+  CHECK_THROWS_WITH(plan_cohort(m), Catch::Contains("letters and digits"));
+}
