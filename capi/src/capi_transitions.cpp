@@ -98,8 +98,9 @@ cpx_status cpx_random_graph_expectations(size_t nodes, const double* p, size_t c
     require_pointer(json, "json");
     if (count > 0) require_pointer(p, "p");
     if (nodes < 1) fail(ErrorKind::argument, "argument 'nodes' must be at least 1");
-    const Json opts = parse_options(options_json, "options of cpx_random_graph_expectations");
-    OptionReader r(opts.is_null() ? Json::object() : opts, "options of cpx_random_graph_expectations");
+    Json opts = parse_options(options_json, "options of cpx_random_graph_expectations");
+    if (opts.is_null()) opts = Json::object();
+    OptionReader r(opts, "options of cpx_random_graph_expectations");  // keeps a reference to opts
     const bool zeros = r.boolean("zeros", true);
     const double max_p = r.number("max_p", 1.0);
     const long long scan = r.integer("scan_points", 2000);

@@ -59,64 +59,87 @@ inline Pair div(Pair a, quad d) {
 }
 inline quad magnitude(Pair a) { return fabsq(a.hi); }
 
-constexpr double unit_roundoff_log2 = -220.0;  // conservative for the pair arithmetic
+// Plain binary128 for the easy cases (much faster), the pair where cancellation needs it.
+inline quad add(quad a, quad b) { return a + b; }
+inline quad negate(quad a) { return -a; }
+inline quad mul(quad a, quad b) { return a * b; }
+inline quad div(quad a, quad d) { return a / d; }
+inline quad magnitude(quad a) { return fabsq(a); }
+inline quad high(quad a) { return a; }
+inline quad high(Pair a) { return a.hi + a.lo; }
 
-// sum_{k>=start} sign_k * t_k, with t_start = first and t_{k+1} = t_k * (n - k) / (k + shift) * p^(k + pshift).
-// Both closed forms fit this recurrence; see the two callers.
+// log2 of a conservative unit roundoff per operation.
+template <class Number> constexpr int unit_roundoff_log2();
+template <> constexpr int unit_roundoff_log2<quad>() { return -110; }
+template <> constexpr int unit_roundoff_log2<Pair>() { return -220; }
+
 struct Series {
-  Pair sum;
+  quad sum = 0;
   quad absolute = 0;   // sum of |t_k|
   std::size_t terms = 0;
+  int roundoff_log2 = 0;
 };
 
+// Both closed forms as sum_k (-1)^k t_k with a term ratio that decreases in k:
+//   chi:   t_1 = N,  t_{k+1} = t_k (N-k)/(k+1) p^k,       sign (-1)^(k-1), k = 1..N
+//   kappa: t_0 = 1,  t_{k+1} = t_k (M-k)/(k+2) p^(k+1),   sign (-1)^k,     k = 0..M, M = N-1
+template <class Number>
 Series alternating_series(std::size_t n, double p, bool kappa) {
   Series s;
+  Number sum{};
   const quad qp = p;
-  const quad tiny = ldexpq(one, -240);
-  // chi:   t_1 = N,  t_{k+1} = t_k (N-k)/(k+1) p^k,       sign (-1)^(k-1), k = 1..N
-  // kappa: t_0 = 1,  t_{k+1} = t_k (M-k)/(k+2) p^(k+1),   sign (-1)^k,     k = 0..M, M = N-1
+  const quad tiny = ldexpq(one, unit_roundoff_log2<Number>() - 20);
   const std::size_t top = kappa ? n - 1 : n;
   std::size_t k = kappa ? 0 : 1;
-  Pair term{kappa ? one : static_cast<quad>(n), 0};
-  Pair power{qp, 0};  // the power of p in the next ratio: p^(k+1) for kappa, p^k for chi
+  Number term{};
+  term = add(term, Number{kappa ? one : static_cast<quad>(n)});
+  Number power{};
+  power = add(power, Number{qp});  // the power of p in the next ratio: p^(k+1) for kappa, p^k for chi
   bool positive = true;
   quad largest = 0;
   for (; k <= top; ++k) {
-    s.sum = add(s.sum, positive ? term : negate(term));
+    sum = add(sum, positive ? term : negate(term));
     s.absolute += magnitude(term);
     largest = std::max(largest, magnitude(term));
     ++s.terms;
     if (k == top) break;
-    // ratio of the next term to this one
-    const quad numerator = static_cast<quad>((kappa ? n - 1 : n) - k);
+    const quad numerator = static_cast<quad>(top - k);
     const quad denominator = static_cast<quad>(kappa ? k + 2 : k + 1);
-    term = div(mul(mul(term, numerator), power), denominator);
-    power = mul(power, qp);
+    term = div(mul(mul(term, Number{numerator}), power), denominator);
+    const quad ratio = numerator / denominator * high(power);
+    power = mul(power, Number{qp});
     positive = !positive;
-    // Past the largest term the ratios only shrink (they decrease in k), so once a term is
-    // negligible and the ratio below 1/2 the tail is below twice that term.
-    const quad ratio = numerator / denominator * power.hi / qp;
+    // Past the largest term the ratios only shrink, so once a term is negligible and the
+    // ratio below 1/2 the rest of the tail is below that term again.
     if (magnitude(term) <= tiny * largest && ratio < half) {
       s.absolute += 2 * magnitude(term);
       break;
     }
-    if (term.hi == 0) break;
+    if (magnitude(term) == 0) break;
   }
+  s.sum = high(sum);
+  s.roundoff_log2 = unit_roundoff_log2<Number>();
   return s;
 }
 
-RandomGraphValue finish(const Series& s, quad scale) {
+RandomGraphValue finish(const Series& s) {
   RandomGraphValue v;
-  const quad value = (s.sum.hi + s.sum.lo) / scale;
+  const quad value = s.sum;
   v.value = static_cast<double>(value);
   char buffer[64];
   quadmath_snprintf(buffer, sizeof buffer, "%.34Qe", value);
   v.decimal = buffer;
-  const quad bound = s.absolute * ldexpq(one, static_cast<int>(unit_roundoff_log2)) *
-                     static_cast<quad>(4 * s.terms + 8) / scale;
+  const quad bound = s.absolute * ldexpq(one, s.roundoff_log2) * static_cast<quad>(4 * s.terms + 8);
   v.relative_error_bound = value == 0 ? (bound == 0 ? 0.0 : HUGE_VAL) : static_cast<double>(bound / fabsq(value));
   v.reliable = v.relative_error_bound < 1e-15;
   return v;
+}
+
+// Plain binary128 when its error estimate is already far below double rounding, else the pair.
+RandomGraphValue evaluate(std::size_t n, double p, bool kappa) {
+  RandomGraphValue fast = finish(alternating_series<quad>(n, p, kappa));
+  if (fast.relative_error_bound < 1e-20) return fast;
+  return finish(alternating_series<Pair>(n, p, kappa));
 }
 
 void check_args(std::size_t nodes, double p) {
@@ -132,7 +155,7 @@ RandomGraphValue expected_chi(std::size_t nodes, double p) {
   check_args(nodes, p);
   // The full simplex is contractible: E[chi] = 1 at p = 1 (the sum would need ~N digits).
   if (p == 1.0) return RandomGraphValue{1.0, "1", 0.0, true};
-  return finish(alternating_series(nodes, p, false), 1);
+  return evaluate(nodes, p, false);
 }
 
 RandomGraphValue expected_kappa(std::size_t nodes, double p) {
@@ -146,7 +169,7 @@ RandomGraphValue expected_kappa(std::size_t nodes, double p) {
     return v;
   }
   if (nodes == 1) return RandomGraphValue{1.0, "1", 0.0, true};
-  return finish(alternating_series(nodes, p, true), 1);
+  return evaluate(nodes, p, true);
 }
 
 RandomGraphZeros random_graph_zeros(std::size_t nodes, double max_p, std::size_t scan_points) {

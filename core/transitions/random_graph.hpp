@@ -8,10 +8,12 @@
 // 10^30 times the result, so double precision keeps no digit. We evaluate them in
 // "paired binary128" arithmetic: each number is an unevaluated sum hi + lo of two IEEE
 // binary128 (__float128, libquadmath) values, about 225 significant bits (67 decimal
-// digits), with error-free transformations (two-sum, fused multiply-add). Alongside each
-// value we carry a conservative estimate of the rounding error (a multiple of
-// 2^-220 times the sum of |terms|); when that bound is not small against the value, the
-// value is reported as unreliable and the zero search stops there.
+// digits), with error-free transformations (two-sum, fused multiply-add). Each value is
+// first summed in plain binary128 (113 bits, much faster); the pair is used only when
+// the error estimate of that sum is not far below double rounding. Alongside each
+// value we carry a conservative estimate of the rounding error (a multiple of the unit
+// roundoff times the sum of |terms|); when that bound is not small against the value,
+// the value is reported as unreliable and the zero search stops there.
 //
 // Zeros in p are found by scanning a grid (log-spaced below 0.1, linear above) for sign
 // changes and refining each bracket by bisection on the extended-precision function to

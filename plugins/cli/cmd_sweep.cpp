@@ -30,6 +30,10 @@ int run_sweep(const Args& args) {
     else options["grid"] = args.number("grid", 0.01);
   }
 
+  // --curvature: node and edge curvature on the grid (the transitions come with chi anyway).
+  if (args.has("curvature") && !options.contains("curvature")) options["curvature"] = nlohmann::json::object();
+  const auto transitions_out = args.value("transitions-out");
+
   nlohmann::json read_options = nlohmann::json::object();
   if (auto f = args.value("input-format")) read_options["format"] = *f;
 
@@ -49,7 +53,15 @@ int run_sweep(const Args& args) {
   std::string body(text);
   cpx_string_free(text);
   if (format == "json") body += "\n";
+  std::string transitions_tsv;
+  if (transitions_out) {
+    char* summary = nullptr;
+    check(cpx_sweep_transitions_tsv(sweep.get(), &summary));
+    transitions_tsv = summary;
+    cpx_string_free(summary);
+  }
   write_file_atomically(*out, body);
+  if (transitions_out) write_file_atomically(*transitions_out, transitions_tsv);
   return 0;
 }
 
@@ -66,6 +78,8 @@ const Registration registration{Command{
      {"weights", "MODE", "positive (default), absolute or negative"},
      {"grid", "STEP", "density step of the reporting grid (default 0.01), or 'every'"},
      {"input-format", "FMT", "tsv, csv, text or npy (default: from the MATRIX extension)"},
+     {"curvature", "", "also node (Gauss-Bonnet) and edge (Forman-Ricci) curvature on the grid"},
+     {"transitions-out", "FILE", "also write the transitions summary (chi zeros, Betti crossings, ...) as TSV"},
      {"options", "JSON", "sweep options as a JSON object (README: sweep options)"}},
     1,
     1,
