@@ -17,7 +17,7 @@ Eigen::MatrixXd centred(const Eigen::MatrixXd& values) { return values.rowwise()
 Eigen::MatrixXd gram(const Eigen::MatrixXd& x) {
   Eigen::MatrixXd g = Eigen::MatrixXd::Zero(x.cols(), x.cols());
   g.selfadjointView<Eigen::Lower>().rankUpdate(x.transpose());
-  g.triangularView<Eigen::StrictlyUpper>() = g.transpose();
+  g = g.selfadjointView<Eigen::Lower>();
   return g;
 }
 

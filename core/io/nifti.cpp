@@ -134,7 +134,7 @@ Header read_header(GzFile& file) {
   hd.xyzt_units = h[123];
   hd.sform_code = get<std::int16_t>(h + 254, hd.swap);
   for (int r = 0; r < 3; ++r)
-    for (int c = 0; c < 4; ++c) hd.srow[r][c] = get<float>(h + 280 + 64 * r + 4 * c, hd.swap);
+    for (int c = 0; c < 4; ++c) hd.srow[r][c] = get<float>(h + 280 + 16 * r + 4 * c, hd.swap);  // srow_x, srow_y, srow_z
   if (item_size(hd.datatype) == 0)
     fail(ErrorKind::data, "'" + file.path + "': NIfTI datatype " + datatype_name(hd.datatype) +
                               " is not supported (use an integer or float32/float64 image)");

@@ -150,8 +150,7 @@ class Nifti(unittest.TestCase):
     def save(self, name, array, affine=None, **header):
         path = os.path.join(self.tmp.name, name)
         img = self.nib.Nifti1Image(array, self.affine if affine is None else affine)
-        path_img = img
-        self.nib.save(path_img, path)
+        self.nib.save(img, path)
         return path
 
     def test_regional_means(self):
@@ -178,6 +177,9 @@ class Nifti(unittest.TestCase):
     def test_errors(self):
         other_grid = self.save("grid.nii", np.ones((6, 5, 3), dtype=np.int16))
         fractional = self.save("frac.nii", self.labels.astype(np.float32) + 0.5)
+        moved = self.affine.copy()
+        moved[0, 3] = 10.0   # same voxel grid shifted by 10 mm
+        shifted = self.save("shifted.nii", self.labels, affine=moved)
         complex_img = self.save("complex.nii", self.data[..., :3].astype(np.complex64))
         names_extra = os.path.join(self.tmp.name, "extra.tsv")
         with open(names_extra, "w") as f:
@@ -188,6 +190,7 @@ class Nifti(unittest.TestCase):
         cases = [
             (self.image, other_grid, {}, "grids differ"),
             (self.image, fractional, {}, "not an integer label"),
+            (self.image, shifted, {}, "voxel-to-world"),
             (self.image, self.atlas, {"label_names": names_extra}, "label 11 ('nowhere')"),
             (complex_img, self.atlas, {}, "complex64"),
             (not_nifti, self.atlas, {}, "bad.nii"),
