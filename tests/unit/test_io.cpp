@@ -131,3 +131,13 @@ TEST_CASE("exact decimal text of 128-bit integers", "[base]") {
   CHECK_THROWS_AS(int128_from_decimal("999999999999999999999999999999999999999999"), Error);
   CHECK_THROWS_AS(checked_mul(v, v, "test"), Error);
 }
+
+#include "io/checksum.hpp"
+
+TEST_CASE("SHA-256 test vectors", "[io]") {
+  // reference: the NIST FIPS 180-4 examples (values from memory, confirmed with coreutils sha256sum)
+  CHECK(io::sha256_hex("") == "e3b0c44298fc1c149afbf4c8996fb92427ae41e4649b934ca495991b7852b855");
+  CHECK(io::sha256_hex("abc") == "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad");
+  CHECK(io::sha256_hex("abcdbcdecdefdefgefghfghighijhijkijkljklmklmnlmnomnopnopq") ==
+        "248d6a61d20638b8e5c026930c3e6039a33ce45964ff2167f6ecedd419db06c1");
+}

@@ -248,6 +248,41 @@ CPX_API cpx_status cpx_simulate_plan(const char* options_json, char** plan_json)
 CPX_API cpx_status cpx_simulate_subject(const char* options_json, size_t index, cpx_series** out);
 /* (end of the group statistics section) */
 
+/* ------------------------------------------------------------------------------------ */
+/* Whole subjects and cohorts (owner: pipeline stage)                                    */
+/* ------------------------------------------------------------------------------------ */
+
+/* Runs one subject from a JSON config (README, "Subject config": id, timeseries or
+ * image + labels, connect, sweep, null, ...) and returns the subject document as JSON.
+ * When out_dir is not NULL, the document and its TSV twins are also written there
+ * (atomically; the folder must exist). Relative paths in the config are taken from the
+ * current directory. progress may be NULL. */
+CPX_API cpx_status cpx_subject_run(const char* config_json, const char* out_dir, cpx_progress_fn progress, void* user,
+                                   char** document_json);
+
+/* Runs every subject of a manifest TSV (subject, group, timeseries, optional confounds
+ * and covariates) with a shared config into out_dir (created if missing). Finished
+ * subjects whose inputs and options are unchanged are skipped; a failing subject is
+ * recorded with its reason and the others go on. Options: {"workers": 0 (one per core),
+ * "force": false}. summary_json: {"done", "skipped", "failed", "subjects": [...]}.
+ * The call fails only for a bad manifest or config, or when cancelled. */
+CPX_API cpx_status cpx_cohort_run(const char* manifest_path, const char* config_json, const char* out_dir,
+                                  const char* options_json, cpx_progress_fn progress, void* user, char** summary_json);
+
+/* --- homology: persistence bars of a sweep (owner: homology engine) ------------------ */
+/* A sweep run with a "homology" section (README, "Betti curves and barcodes") holds the
+ * bars of its flag filtration over Z/2; its curves include betti_0..betti_K. */
+#define CPX_BAR_COLUMNS 7
+/* Bars of one dimension (or of every dimension when `dimension` is -1), two-call
+ * pattern: with buffer NULL only *bars is set; otherwise the bars are copied as a
+ * (*bars) x CPX_BAR_COLUMNS table in `layout`, columns: dimension, birth rank, death
+ * rank, birth density, death density, birth threshold, death threshold. Ranks count
+ * edges entered; an essential bar (alive at the end) has death rank and density
+ * INFINITY and death threshold NaN; a bar born at rank 0 has birth threshold NaN.
+ * Fails with CPX_ERR_ARGUMENT when the sweep ran without "homology". */
+CPX_API cpx_status cpx_sweep_bars(const cpx_sweep* sweep, int dimension, cpx_layout layout, double* buffer,
+                                  size_t buffer_length, size_t* bars);
+
 /* --- stage sections below are added by the stages that own them ----------------------- */
 
 /* ------------------------------------------------------------------------------------ */
