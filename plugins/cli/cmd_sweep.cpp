@@ -30,6 +30,12 @@ int run_sweep(const Args& args) {
     else options["grid"] = args.number("grid", 0.01);
   }
 
+  // --betti K: persistence barcodes and Betti curves in dimensions 0..K (homology engine).
+  if (args.has("betti")) {
+    if (!options.contains("homology") || !options["homology"].is_object()) options["homology"] = nlohmann::json::object();
+    options["homology"]["max_dimension"] = args.integer("betti", 2);
+  }
+
   // --curvature: node and edge curvature on the grid (the transitions come with chi anyway).
   if (args.has("curvature") && !options.contains("curvature")) options["curvature"] = nlohmann::json::object();
   const auto transitions_out = args.value("transitions-out");
@@ -78,6 +84,7 @@ const Registration registration{Command{
      {"weights", "MODE", "positive (default), absolute or negative"},
      {"grid", "STEP", "density step of the reporting grid (default 0.01), or 'every'"},
      {"input-format", "FMT", "tsv, csv, text or npy (default: from the MATRIX extension)"},
+     {"betti", "K", "also barcodes and Betti curves betti_0..betti_K (K = 2 is usual)"},
      {"curvature", "", "also node (Gauss-Bonnet) and edge (Forman-Ricci) curvature on the grid"},
      {"transitions-out", "FILE", "also write the transitions summary (chi zeros, Betti crossings, ...) as TSV"},
      {"options", "JSON", "sweep options as a JSON object (README: sweep options)"}},
