@@ -1,0 +1,502 @@
+#include "report/report.hpp"
+
+#include <algorithm>
+#include <cmath>
+#include <cstdio>
+#include <limits>
+#include <sstream>
+
+#include "base/error.hpp"
+
+namespace critplex::report {
+
+namespace {
+
+// Okabe & Ito (2008) colours; dash patterns and marker shapes keep groups apart in grey.
+struct Style {
+  const char* colour;
+  const char* dash;  // "" = solid
+  const char* marker;
+};
+constexpr Style kStyles[] = {
+    {"#0072B2", "", "circle"},        {"#D55E00", "8 4", "triangle"},   {"#009E73", "2 3", "square"},
+    {"#CC79A7", "9 3 2 3", "diamond"}, {"#E69F00", "4 2", "cross"},    {"#000000", "12 3 2 3 2 3", "none"},
+};
+const Style& style_of(int index) {
+  const int n = static_cast<int>(sizeof kStyles / sizeof kStyles[0]);
+  return kStyles[((index % n) + n) % n];
+}
+
+std::string num(double v, int digits = 4) {
+  if (std::isnan(v)) return "n/a";
+  char buffer[64];
+  std::snprintf(buffer, sizeof buffer, "%.*g", digits, v);
+  return buffer;
+}
+std::string coord(double v) {
+  char buffer[32];
+  std::snprintf(buffer, sizeof buffer, "%.2f", v);
+  return buffer;
+}
+
+std::string marker_svg(const Style& s, double x, double y, double r = 3.6) {
+  const std::string fill = " fill=\"" + std::string(s.colour) + "\" stroke=\"#ffffff\" stroke-width=\"0.8\"";
+  const std::string m = s.marker;
+  if (m == "circle") return "<circle cx=\"" + coord(x) + "\" cy=\"" + coord(y) + "\" r=\"" + coord(r) + "\"" + fill + "/>";
+  if (m == "square")
+    return "<rect x=\"" + coord(x - r) + "\" y=\"" + coord(y - r) + "\" width=\"" + coord(2 * r) + "\" height=\"" +
+           coord(2 * r) + "\"" + fill + "/>";
+  if (m == "triangle")
+    return "<path d=\"M" + coord(x) + "," + coord(y - 1.2 * r) + "L" + coord(x + 1.1 * r) + "," + coord(y + 0.8 * r) + "L" +
+           coord(x - 1.1 * r) + "," + coord(y + 0.8 * r) + "Z\"" + fill + "/>";
+  if (m == "diamond")
+    return "<path d=\"M" + coord(x) + "," + coord(y - 1.3 * r) + "L" + coord(x + r) + "," + coord(y) + "L" + coord(x) + "," +
+           coord(y + 1.3 * r) + "L" + coord(x - r) + "," + coord(y) + "Z\"" + fill + "/>";
+  if (m == "cross")
+    return "<path d=\"M" + coord(x - r) + "," + coord(y - r) + "L" + coord(x + r) + "," + coord(y + r) + "M" + coord(x - r) +
+           "," + coord(y + r) + "L" + coord(x + r) + "," + coord(y - r) + "\" stroke=\"" + s.colour +
+           "\" stroke-width=\"2\" fill=\"none\"/>";
+  return "";
+}
+
+std::string dash_attr(const Style& s) { return *s.dash ? " stroke-dasharray=\"" + std::string(s.dash) + "\"" : ""; }
+
+struct Frame {
+  double width = 660, height = 400, left = 74, right = 18, top = 62, bottom = 58;
+  double x0 = 0, x1 = 1, y0 = 0, y1 = 1;
+  double px(double x) const { return left + (x - x0) / (x1 - x0) * (width - left - right); }
+  double py(double y) const { return height - bottom - (y - y0) / (y1 - y0) * (height - top - bottom); }
+};
+
+void expand(double& lo, double& hi) {
+  if (!(lo < hi)) {
+    const double c = std::isfinite(lo) ? lo : 0.0;
+    lo = c - 1.0;
+    hi = c + 1.0;
+    return;
+  }
+  const double pad = 0.04 * (hi - lo);
+  lo -= pad;
+  hi += pad;
+}
+
+std::string svg_open(const Frame& f, const std::string& title) {
+  return "<svg xmlns=\"http://www.w3.org/2000/svg\" viewBox=\"0 0 " + coord(f.width) + " " + coord(f.height) +
+         "\" role=\"img\" aria-label=\"" + escape(title) + "\" class=\"plot\">\n<text x=\"" + coord(f.left) +
+         "\" y=\"22\" class=\"plot-title\">" + escape(title) + "</text>\n";
+}
+
+std::string axes(const Frame& f, const std::string& x_label, const std::string& y_label) {
+  std::ostringstream s;
+  const double bottom = f.height - f.bottom, right = f.width - f.right;
+  s << "<rect x=\"" << coord(f.left) << "\" y=\"" << coord(f.top) << "\" width=\"" << coord(right - f.left)
+    << "\" height=\"" << coord(bottom - f.top) << "\" class=\"plot-area\"/>\n";
+  for (double t : nice_ticks(f.x0, f.x1)) {
+    const double x = f.px(t);
+    s << "<line x1=\"" << coord(x) << "\" y1=\"" << coord(f.top) << "\" x2=\"" << coord(x) << "\" y2=\"" << coord(bottom)
+      << "\" class=\"grid\"/><line x1=\"" << coord(x) << "\" y1=\"" << coord(bottom) << "\" x2=\"" << coord(x) << "\" y2=\""
+      << coord(bottom + 5) << "\" class=\"tick\"/><text x=\"" << coord(x) << "\" y=\"" << coord(bottom + 18)
+      << "\" class=\"tick-label\" text-anchor=\"middle\">" << num(t) << "</text>\n";
+  }
+  for (double t : nice_ticks(f.y0, f.y1)) {
+    const double y = f.py(t);
+    s << "<line x1=\"" << coord(f.left) << "\" y1=\"" << coord(y) << "\" x2=\"" << coord(right) << "\" y2=\"" << coord(y)
+      << "\" class=\"grid\"/><line x1=\"" << coord(f.left - 5) << "\" y1=\"" << coord(y) << "\" x2=\"" << coord(f.left)
+      << "\" y2=\"" << coord(y) << "\" class=\"tick\"/><text x=\"" << coord(f.left - 8) << "\" y=\"" << coord(y + 4)
+      << "\" class=\"tick-label\" text-anchor=\"end\">" << num(t) << "</text>\n";
+  }
+  s << "<line x1=\"" << coord(f.left) << "\" y1=\"" << coord(bottom) << "\" x2=\"" << coord(right) << "\" y2=\""
+    << coord(bottom) << "\" class=\"axis\"/><line x1=\"" << coord(f.left) << "\" y1=\"" << coord(f.top) << "\" x2=\""
+    << coord(f.left) << "\" y2=\"" << coord(bottom) << "\" class=\"axis\"/>\n";
+  s << "<text x=\"" << coord((f.left + right) / 2) << "\" y=\"" << coord(f.height - 12)
+    << "\" class=\"axis-label\" text-anchor=\"middle\">" << escape(x_label) << "</text>\n";
+  s << "<text transform=\"translate(16," << coord((f.top + bottom) / 2) << ") rotate(-90)\" class=\"axis-label\" "
+    << "text-anchor=\"middle\">" << escape(y_label) << "</text>\n";
+  return s.str();
+}
+
+// Legend entries in a row under the title: a line sample in the style plus its marker.
+std::string legend(const Frame& f, const std::vector<std::pair<std::string, std::pair<int, bool>>>& entries) {
+  std::ostringstream s;
+  double x = f.left;
+  const double y = 44;
+  for (const auto& [label, look] : entries) {
+    const Style& st = style_of(look.first);
+    s << "<line x1=\"" << coord(x) << "\" y1=\"" << coord(y) << "\" x2=\"" << coord(x + 26) << "\" y2=\"" << coord(y)
+      << "\" stroke=\"" << st.colour << "\" stroke-width=\"2.2\"" << dash_attr(st) << "/>";
+    if (look.second) s << marker_svg(st, x + 13, y);
+    s << "<text x=\"" << coord(x + 32) << "\" y=\"" << coord(y + 4) << "\" class=\"legend\">" << escape(label) << "</text>\n";
+    x += 44 + 6.4 * static_cast<double>(label.size());
+  }
+  return s.str();
+}
+
+void check_lengths(const std::string& what, std::size_t expected, std::size_t got) {
+  if (got != expected)
+    fail(ErrorKind::argument, "report: " + what + " has " + std::to_string(got) + " values, expected " + std::to_string(expected));
+}
+
+}  // namespace
+
+std::string escape(const std::string& text) {
+  std::string out;
+  out.reserve(text.size());
+  for (char c : text) {
+    switch (c) {
+      case '&': out += "&amp;"; break;
+      case '<': out += "&lt;"; break;
+      case '>': out += "&gt;"; break;
+      case '"': out += "&quot;"; break;
+      case '\'': out += "&#39;"; break;
+      default: out += c;
+    }
+  }
+  return out;
+}
+
+std::vector<double> nice_ticks(double lo, double hi, int target) {
+  std::vector<double> ticks;
+  if (!(std::isfinite(lo) && std::isfinite(hi)) || !(hi > lo) || target < 2) return ticks;
+  const double raw = (hi - lo) / target;
+  const double power = std::pow(10.0, std::floor(std::log10(raw)));
+  double step = power;
+  for (double m : {1.0, 2.0, 5.0, 10.0})
+    if (m * power >= raw) {
+      step = m * power;
+      break;
+    }
+  for (double t = std::ceil(lo / step) * step; t <= hi + 1e-9 * step; t += step)
+    ticks.push_back(std::fabs(t) < 1e-12 * step ? 0.0 : t);
+  return ticks;
+}
+
+std::string svg_line_plot(const LinePlot& plot) {
+  Frame f;
+  double xlo = std::numeric_limits<double>::infinity(), xhi = -xlo, ylo = xlo, yhi = -xlo;
+  for (const auto& line : plot.lines) {
+    check_lengths("line '" + line.label + "' y", line.x.size(), line.y.size());
+    if (!line.lower.empty()) check_lengths("line '" + line.label + "' lower band", line.x.size(), line.lower.size());
+    if (!line.upper.empty()) check_lengths("line '" + line.label + "' upper band", line.x.size(), line.upper.size());
+    for (std::size_t i = 0; i < line.x.size(); ++i) {
+      if (!std::isfinite(line.x[i])) continue;
+      xlo = std::min(xlo, line.x[i]);
+      xhi = std::max(xhi, line.x[i]);
+      for (const auto* v : {&line.y, &line.lower, &line.upper})
+        if (i < v->size() && std::isfinite((*v)[i])) {
+          ylo = std::min(ylo, (*v)[i]);
+          yhi = std::max(yhi, (*v)[i]);
+        }
+    }
+  }
+  if (!std::isfinite(xlo)) xlo = 0, xhi = 1;
+  if (!std::isfinite(ylo)) ylo = 0, yhi = 1;
+  if (!(xhi > xlo)) xhi = xlo + 1;
+  expand(ylo, yhi);
+  f.x0 = xlo;
+  f.x1 = xhi;
+  f.y0 = ylo;
+  f.y1 = yhi;
+
+  std::ostringstream s;
+  s << svg_open(f, plot.title) << axes(f, plot.x_label, plot.y_label);
+  s << "<g clip-path=\"none\">\n";
+  // Bands first, so every line stays on top of every band.
+  for (const auto& line : plot.lines) {
+    if (line.lower.empty() || line.upper.empty()) continue;
+    const Style& st = style_of(line.style);
+    std::string upper, lower;
+    std::size_t i = 0;
+    while (i < line.x.size()) {  // one polygon per run of finite points
+      std::vector<std::size_t> run;
+      for (; i < line.x.size() && std::isfinite(line.lower[i]) && std::isfinite(line.upper[i]) && std::isfinite(line.x[i]); ++i)
+        run.push_back(i);
+      if (run.size() >= 2) {
+        std::string d = "M";
+        for (std::size_t k = 0; k < run.size(); ++k)
+          d += (k ? "L" : "") + coord(f.px(line.x[run[k]])) + "," + coord(f.py(line.upper[run[k]]));
+        for (std::size_t k = run.size(); k-- > 0;) d += "L" + coord(f.px(line.x[run[k]])) + "," + coord(f.py(line.lower[run[k]]));
+        s << "<path d=\"" << d << "Z\" fill=\"" << st.colour << "\" fill-opacity=\"0.16\" stroke=\"" << st.colour
+          << "\" stroke-opacity=\"0.55\" stroke-width=\"0.7\"" << dash_attr(st) << "/>\n";
+      }
+      if (run.empty()) ++i;
+    }
+  }
+  std::size_t mark_row = 0;  // labels stacked so close marks stay readable
+  for (const auto& mark : plot.marks) {
+    if (!std::isfinite(mark.x) || mark.x < f.x0 || mark.x > f.x1) continue;
+    const double label_y = f.top + 12 + 13 * static_cast<double>(mark_row++);
+    const Style& st = style_of(mark.style);
+    const double x = f.px(mark.x);
+    s << "<line x1=\"" << coord(x) << "\" y1=\"" << coord(f.top) << "\" x2=\"" << coord(x) << "\" y2=\""
+      << coord(f.height - f.bottom) << "\" stroke=\"" << st.colour << "\" stroke-width=\"1.3\" stroke-dasharray=\"1 3\"/>"
+      << "<text x=\"" << coord(x + 3) << "\" y=\"" << coord(label_y) << "\" class=\"mark-label\" fill=\"" << st.colour
+      << "\">" << escape(mark.label) << "</text>\n";
+  }
+  for (const auto& line : plot.lines) {
+    const Style& st = style_of(line.style);
+    std::string d;
+    bool pen_down = false;
+    for (std::size_t i = 0; i < line.x.size(); ++i) {
+      if (!std::isfinite(line.x[i]) || !std::isfinite(line.y[i])) {
+        pen_down = false;
+        continue;
+      }
+      d += (pen_down ? "L" : "M") + coord(f.px(line.x[i])) + "," + coord(f.py(line.y[i]));
+      pen_down = true;
+    }
+    if (!d.empty())
+      s << "<path d=\"" << d << "\" fill=\"none\" stroke=\"" << st.colour << "\" stroke-width=\"2.2\"" << dash_attr(st)
+        << " stroke-linejoin=\"round\"/>\n";
+    if (line.markers) {
+      const std::size_t every = std::max<std::size_t>(1, line.x.size() / 10);
+      for (std::size_t i = 0; i < line.x.size(); i += every)
+        if (std::isfinite(line.x[i]) && std::isfinite(line.y[i])) s << marker_svg(st, f.px(line.x[i]), f.py(line.y[i]));
+      s << "\n";
+    }
+  }
+  s << "</g>\n";
+  std::vector<std::pair<std::string, std::pair<int, bool>>> entries;
+  for (const auto& line : plot.lines) entries.push_back({line.label, {line.style, line.markers}});
+  s << legend(f, entries) << "</svg>\n";
+  return s.str();
+}
+
+std::string svg_strip_plot(const StripPlot& plot) {
+  Frame f;
+  f.width = 480;
+  f.height = 360;
+  f.top = 40;
+  double lo = std::numeric_limits<double>::infinity(), hi = -lo;
+  for (const auto& g : plot.groups)
+    for (double v : g.values)
+      if (std::isfinite(v)) lo = std::min(lo, v), hi = std::max(hi, v);
+  if (!std::isfinite(lo)) lo = 0, hi = 1;
+  expand(lo, hi);
+  const double n = std::max<double>(1.0, static_cast<double>(plot.groups.size()));
+  f.x0 = 0;
+  f.x1 = n;
+  f.y0 = lo;
+  f.y1 = hi;
+  std::ostringstream s;
+  s << svg_open(f, plot.title);
+  // Axes without x ticks: the groups are categories, named under their columns.
+  Frame no_x = f;
+  no_x.x0 = 0;
+  no_x.x1 = 0;  // nice_ticks gives nothing for an empty range
+  std::string a = axes(no_x, "", plot.y_label);
+  s << a;
+  for (std::size_t k = 0; k < plot.groups.size(); ++k) {
+    const auto& g = plot.groups[k];
+    const Style& st = style_of(g.style);
+    const double centre = f.left + (static_cast<double>(k) + 0.5) / n * (f.width - f.left - f.right);
+    std::vector<double> finite;
+    for (double v : g.values)
+      if (std::isfinite(v)) finite.push_back(v);
+    std::sort(finite.begin(), finite.end());
+    auto quantile = [&](double q) {
+      const double h = (static_cast<double>(finite.size()) - 1.0) * q;
+      const auto i = static_cast<std::size_t>(std::floor(h));
+      const std::size_t j = std::min(i + 1, finite.size() - 1);
+      return finite[i] + (h - static_cast<double>(i)) * (finite[j] - finite[i]);
+    };
+    if (!finite.empty()) {
+      const double q1 = f.py(quantile(0.25)), q2 = f.py(quantile(0.5)), q3 = f.py(quantile(0.75));
+      s << "<rect x=\"" << coord(centre - 30) << "\" y=\"" << coord(q3) << "\" width=\"60\" height=\"" << coord(q1 - q3)
+        << "\" fill=\"none\" stroke=\"#555555\" stroke-width=\"1\"/><line x1=\"" << coord(centre - 34) << "\" y1=\""
+        << coord(q2) << "\" x2=\"" << coord(centre + 34) << "\" y2=\"" << coord(q2)
+        << "\" stroke=\"#222222\" stroke-width=\"2.4\"/>\n";
+    }
+    std::size_t i = 0;
+    for (double v : g.values) {
+      // Deterministic spread by the golden-ratio sequence, so points rarely overlap.
+      const double offset = (std::fmod(static_cast<double>(i++) * 0.6180339887, 1.0) - 0.5) * 44.0;
+      if (std::isfinite(v)) s << marker_svg(st, centre + offset, f.py(v), 3.8);
+    }
+    const std::size_t missing = g.values.size() - finite.size();
+    s << "\n<text x=\"" << coord(centre) << "\" y=\"" << coord(f.height - f.bottom + 20)
+      << "\" class=\"axis-label\" text-anchor=\"middle\">" << escape(g.label) << " (n = " << finite.size() << ")</text>";
+    if (missing > 0)
+      s << "<text x=\"" << coord(centre) << "\" y=\"" << coord(f.height - f.bottom + 36)
+        << "\" class=\"tick-label\" text-anchor=\"middle\">" << missing << " without a value</text>";
+    s << "\n";
+  }
+  s << "</svg>\n";
+  if (!plot.note.empty()) s << "<p class=\"plot-note\">" << escape(plot.note) << "</p>\n";
+  return s.str();
+}
+
+namespace {
+
+const char* kCss = R"css(
+:root { --ink: #1d232b; --muted: #5b6573; --rule: #d7dce3; --paper: #fbfbf8; --panel: #ffffff; }
+* { box-sizing: border-box; }
+body { margin: 0; background: var(--paper); color: var(--ink);
+       font: 15px/1.5 system-ui, -apple-system, "Segoe UI", "Helvetica Neue", Arial, sans-serif; }
+main { max-width: 1000px; margin: 0 auto; padding: 28px 22px 60px; }
+header { border-left: 6px solid var(--ink); padding: 4px 0 4px 16px; margin-bottom: 26px; }
+header h1 { margin: 0; font-size: 26px; letter-spacing: 0.01em; }
+header p { margin: 2px 0 0; color: var(--muted); }
+h2 { font-size: 19px; margin: 34px 0 10px; padding-bottom: 4px; border-bottom: 2px solid var(--ink); }
+.lede { color: var(--muted); margin: 0 0 12px; }
+.panel { background: var(--panel); border: 1px solid var(--rule); border-radius: 3px; padding: 10px 12px; margin: 12px 0; }
+.pair { display: grid; grid-template-columns: repeat(auto-fit, minmax(420px, 1fr)); gap: 12px; }
+svg.plot { width: 100%; height: auto; display: block; }
+.plot-title { font-size: 15px; font-weight: 650; fill: var(--ink); }
+.plot-area { fill: #ffffff; stroke: none; }
+.grid { stroke: #e6e9ee; stroke-width: 1; }
+.tick, .axis { stroke: #3a414b; stroke-width: 1.2; }
+.tick-label { font-size: 12px; fill: #3a414b; }
+.axis-label { font-size: 13px; fill: var(--ink); }
+.legend { font-size: 12.5px; fill: var(--ink); }
+.mark-label { font-size: 11px; paint-order: stroke; stroke: #ffffff; stroke-width: 3px; }
+.plot-note { margin: 4px 0 0; font-size: 13.5px; color: var(--ink); }
+table { border-collapse: collapse; width: 100%; font-size: 14px; }
+th, td { text-align: left; padding: 5px 8px; border-bottom: 1px solid var(--rule); vertical-align: top; }
+th { font-weight: 650; }
+thead th { border-bottom: 2px solid var(--ink); }
+td.n { text-align: right; font-variant-numeric: tabular-nums; }
+tbody tr:nth-child(even) { background: #f3f4f1; }
+pre { background: #f3f4f1; border: 1px solid var(--rule); padding: 10px; overflow-x: auto; font-size: 12.5px; }
+footer { margin-top: 40px; color: var(--muted); font-size: 13px; border-top: 1px solid var(--rule); padding-top: 10px; }
+@media print { body { background: #ffffff; } .panel { break-inside: avoid; border-color: #999999; } }
+)css";
+
+double finite_mean(const std::vector<double>& v) {
+  double s = 0;
+  std::size_t n = 0;
+  for (double x : v)
+    if (std::isfinite(x)) s += x, ++n;
+  return n ? s / static_cast<double>(n) : std::numeric_limits<double>::quiet_NaN();
+}
+
+void check_band(const GroupResults& g, const Band& b, const std::string& name, bool required) {
+  if (!required && b.mean.empty()) return;
+  check_lengths("group '" + g.name + "', " + name + " mean", g.density.size(), b.mean.size());
+  if (!b.lower.empty() || !b.upper.empty()) {
+    check_lengths("group '" + g.name + "', " + name + " lower band", g.density.size(), b.lower.size());
+    check_lengths("group '" + g.name + "', " + name + " upper band", g.density.size(), b.upper.size());
+  }
+}
+
+Line band_line(const std::string& label, const std::vector<double>& x, const Band& b, int style) {
+  return Line{label, x, b.mean, b.lower, b.upper, style, true};
+}
+
+const std::string kDensityLabel = "edge density (fraction of region pairs connected)";
+
+}  // namespace
+
+std::string build_report(const ReportInput& in) {
+  if (in.groups.empty()) fail(ErrorKind::argument, "report: no groups");
+  for (const auto& g : in.groups) {
+    check_band(g, g.chi, "chi", true);
+    check_band(g, g.log_abs_chi, "log10|chi|", false);
+    for (std::size_t k = 0; k < g.betti.size(); ++k) check_band(g, g.betti[k], "beta_" + std::to_string(k), true);
+    check_lengths("group '" + g.name + "', first transitions", g.subjects.size(), g.first_transition.size());
+    if (!g.transition_z.empty()) check_lengths("group '" + g.name + "', transition z-scores", g.subjects.size(), g.transition_z.size());
+  }
+  if (in.null_baseline) {
+    check_lengths("null baseline chi", in.null_baseline->density.size(), in.null_baseline->chi.size());
+    if (!in.null_baseline->log_abs_chi.empty())
+      check_lengths("null baseline log10|chi|", in.null_baseline->density.size(), in.null_baseline->log_abs_chi.size());
+  }
+  constexpr int kNullStyle = 5;
+
+  std::ostringstream h;
+  h << "<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n<meta name=\"viewport\" "
+       "content=\"width=device-width, initial-scale=1\">\n<title>"
+    << escape(in.title) << "</title>\n<style>" << kCss << "</style>\n</head>\n<body>\n<main>\n";
+  h << "<header><h1>" << escape(in.title) << "</h1><p>" << escape(in.software)
+    << (in.created.empty() ? "" : " &middot; " + escape(in.created))
+    << " &middot; research software, not a medical device: no clinical decisions</p></header>\n";
+
+  // Cohort and options.
+  h << "<h2>Cohort and options</h2>\n<div class=\"panel\"><table><tbody>\n";
+  for (const auto& g : in.groups)
+    h << "<tr><th scope=\"row\">group " << escape(g.name) << "</th><td>" << g.subjects.size() << " subjects</td></tr>\n";
+  for (const auto& [k, v] : in.facts) h << "<tr><th scope=\"row\">" << escape(k) << "</th><td>" << escape(v) << "</td></tr>\n";
+  h << "</tbody></table>\n";
+  if (!in.options_json.empty()) h << "<p class=\"lede\">Options as given:</p><pre>" << escape(in.options_json) << "</pre>\n";
+  h << "</div>\n";
+
+  // Mean chi and log|chi| with bands, transitions marked, null on the same axes.
+  std::vector<VerticalMark> marks;
+  for (std::size_t k = 0; k < in.groups.size(); ++k) {
+    const double m = finite_mean(in.groups[k].first_transition);
+    marks.push_back({m, in.groups[k].name + " " + num(m, 3), static_cast<int>(k)});
+  }
+  LinePlot chi{"Euler characteristic, group mean with 95% band", kDensityLabel, "Euler characteristic chi (count)", {}, marks};
+  LinePlot logchi{"log10 |chi|, group mean with 95% band", kDensityLabel, "log10 |chi| (dimensionless)", {}, marks};
+  bool any_log = false;
+  for (std::size_t k = 0; k < in.groups.size(); ++k) {
+    const auto& g = in.groups[k];
+    chi.lines.push_back(band_line(g.name, g.density, g.chi, static_cast<int>(k)));
+    if (!g.log_abs_chi.mean.empty()) {
+      logchi.lines.push_back(band_line(g.name, g.density, g.log_abs_chi, static_cast<int>(k)));
+      any_log = true;
+    }
+  }
+  if (in.null_baseline) {
+    const auto& nb = *in.null_baseline;
+    chi.lines.push_back(Line{nb.label, nb.density, nb.chi, {}, {}, kNullStyle, false});
+    if (!nb.log_abs_chi.empty()) logchi.lines.push_back(Line{nb.label, nb.density, nb.log_abs_chi, {}, {}, kNullStyle, false});
+  }
+  h << "<h2>Euler characteristic along the filtration</h2>\n<p class=\"lede\">Bands: percentile bootstrap over "
+       "subjects. Dotted verticals: each group's mean first transition (first zero of chi).</p>\n";
+  h << "<div class=\"panel\">" << svg_line_plot(chi) << "</div>\n";
+  if (any_log) h << "<div class=\"panel\">" << svg_line_plot(logchi) << "</div>\n";
+
+  // Betti curves: one plot per dimension, groups overlaid.
+  std::size_t dims = 0;
+  for (const auto& g : in.groups) dims = std::max(dims, g.betti.size());
+  h << "<h2>Betti curves</h2>\n";
+  if (dims == 0) h << "<p class=\"lede\">Betti curves were not computed for this cohort.</p>\n";
+  for (std::size_t d = 0; d < dims; ++d) {
+    LinePlot p{"Betti number beta_" + std::to_string(d) + ", group mean with 95% band", kDensityLabel,
+               "beta_" + std::to_string(d) + " (count)", {}, marks};
+    for (std::size_t k = 0; k < in.groups.size(); ++k)
+      if (d < in.groups[k].betti.size())
+        p.lines.push_back(band_line(in.groups[k].name, in.groups[k].density, in.groups[k].betti[d], static_cast<int>(k)));
+    h << "<div class=\"panel\">" << svg_line_plot(p) << "</div>\n";
+  }
+
+  // Subjects' first transitions and curvature at the transition.
+  StripPlot first{"First transition per subject", "first chi zero (edge density)", in.transition_test_note, {}};
+  StripPlot curvature{"Node curvature at the first transition", "node curvature (dimensionless)", "", {}};
+  StripPlot zscores{"First transition against the null model", "z-score (null SD units)", "", {}};
+  bool any_curvature = false, any_z = false;
+  for (std::size_t k = 0; k < in.groups.size(); ++k) {
+    const auto& g = in.groups[k];
+    first.groups.push_back({g.name, g.first_transition, static_cast<int>(k)});
+    curvature.groups.push_back({g.name, g.curvature_at_transition, static_cast<int>(k)});
+    zscores.groups.push_back({g.name, g.transition_z, static_cast<int>(k)});
+    any_curvature |= !g.curvature_at_transition.empty();
+    any_z |= !g.transition_z.empty();
+  }
+  h << "<h2>Transitions per subject</h2>\n<div class=\"pair\">\n<div class=\"panel\">" << svg_strip_plot(first) << "</div>\n";
+  if (any_z) h << "<div class=\"panel\">" << svg_strip_plot(zscores) << "</div>\n";
+  if (any_curvature) h << "<div class=\"panel\">" << svg_strip_plot(curvature) << "</div>\n";
+  h << "</div>\n<p class=\"lede\">Boxes: quartiles; thick line: median.</p>\n";
+
+  // Tests.
+  h << "<h2>Group tests</h2>\n<div class=\"panel\">";
+  if (in.tests.empty()) {
+    h << "<p class=\"lede\">No tests were run.</p>";
+  } else {
+    h << "<table><thead><tr><th>summary</th><th>statistic</th><th class=\"n\">value</th><th class=\"n\">Hedges g</th>"
+         "<th class=\"n\">p</th><th class=\"n\">p (BH)</th><th>null distribution</th></tr></thead><tbody>\n";
+    for (const auto& t : in.tests)
+      h << "<tr><td>" << escape(t.summary) << "</td><td>" << escape(t.statistic) << "</td><td class=\"n\">" << num(t.value)
+        << "</td><td class=\"n\">" << num(t.hedges_g, 3) << "</td><td class=\"n\">" << num(t.p_value, 3)
+        << "</td><td class=\"n\">" << num(t.p_adjusted, 3) << "</td><td>" << escape(t.method) << "</td></tr>\n";
+    h << "</tbody></table>\n<p class=\"lede\">Two-sided permutation tests; p (BH): Benjamini-Hochberg false "
+         "discovery rate across the rows of this table.</p>";
+  }
+  h << "</div>\n";
+  h << "<footer>Made by " << escape(in.software.empty() ? std::string("critplex") : in.software)
+    << ". Research software for the study of brain network topology; it is not a medical device and its "
+       "results must not be used for diagnosis or treatment.</footer>\n</main>\n</body>\n</html>\n";
+  return h.str();
+}
+
+}  // namespace critplex::report

@@ -1,0 +1,105 @@
+// The cohort report: one self-contained HTML document (inline CSS and SVG, no scripts,
+// no external fonts or files) built from value types, so the caller decides where it
+// goes (core/io writes files). Plots use the Okabe-Ito colour-blind-safe palette and,
+// for grey-scale print, a distinct dash pattern and marker shape per group.
+// Research software: the report says so; it supports no clinical decision.
+#pragma once
+
+#include <optional>
+#include <string>
+#include <utility>
+#include <vector>
+
+namespace critplex::report {
+
+// --- plot primitives --------------------------------------------------------------------
+
+// One line on a plot, optionally with a band (lower/upper empty: no band). Non-finite y
+// values break the line (e.g. log|chi| where chi = 0).
+struct Line {
+  std::string label;
+  std::vector<double> x, y, lower, upper;
+  int style = 0;   // index into the palette (colour, dash, marker)
+  bool markers = true;
+};
+
+struct VerticalMark {
+  double x = 0.0;
+  std::string label;
+  int style = 0;
+};
+
+struct LinePlot {
+  std::string title, x_label, y_label;  // labels carry units, e.g. "edge density (fraction of pairs)"
+  std::vector<Line> lines;
+  std::vector<VerticalMark> marks;
+};
+
+// Points per group along a vertical axis, with a median and quartile box.
+struct StripGroup {
+  std::string label;
+  std::vector<double> values;
+  int style = 0;
+};
+
+struct StripPlot {
+  std::string title, y_label, note;  // note: e.g. the test result, printed under the plot
+  std::vector<StripGroup> groups;
+};
+
+std::string svg_line_plot(const LinePlot& plot);
+std::string svg_strip_plot(const StripPlot& plot);
+
+// Ticks at 1, 2 or 5 times a power of ten covering [lo, hi] (about `target` of them).
+std::vector<double> nice_ticks(double lo, double hi, int target = 6);
+// HTML text with &, <, >, " and ' escaped.
+std::string escape(const std::string& text);
+
+// --- the cohort report ------------------------------------------------------------------
+
+struct Band {
+  std::vector<double> mean, lower, upper;  // on the group's density grid
+};
+
+struct GroupResults {
+  std::string name;
+  std::vector<std::string> subjects;     // ids, in the order of first_transition
+  std::vector<double> density;           // grid of the mean curves
+  Band chi, log_abs_chi;                 // log_abs_chi: log10 |chi|
+  std::vector<Band> betti;               // beta_0, beta_1, ... (may be empty)
+  std::vector<double> first_transition;  // per subject: density of the first chi zero (NaN: none)
+  std::vector<double> transition_z;      // per subject: z against the null (empty: no null)
+  std::vector<double> curvature_at_transition;  // node curvatures at each subject's first transition, pooled
+};
+
+struct NullBaseline {
+  std::string label;  // e.g. "Erdos-Renyi expectation, N = 90"
+  std::vector<double> density, chi, log_abs_chi;
+};
+
+struct TestRow {
+  std::string summary;     // e.g. "first transition density"
+  std::string statistic;   // e.g. "mean difference"
+  double value = 0.0;
+  double hedges_g = 0.0;
+  double p_value = 1.0;
+  double p_adjusted = 1.0; // Benjamini-Hochberg across the table
+  std::string method;      // e.g. "exact, 184756 relabellings" or "Monte Carlo, 9999, seed 1"
+};
+
+struct ReportInput {
+  std::string title = "Cohort topology report";
+  std::string software;  // e.g. "critplex 0.1.0"
+  std::string created;   // date and time, supplied by the caller (core has no clock)
+  std::vector<std::pair<std::string, std::string>> facts;  // cohort and option summary rows
+  std::string options_json;  // the options as given, shown verbatim
+  std::vector<GroupResults> groups;
+  std::optional<NullBaseline> null_baseline;
+  std::vector<TestRow> tests;
+  std::string transition_test_note;  // shown under the strip plot of first transitions
+};
+
+// Checks shapes (errors name the group and curve) and returns the whole HTML document.
+std::string build_report(const ReportInput& input);
+
+}  // namespace critplex::report
