@@ -37,8 +37,15 @@ Eigen::MatrixXd regress_out(const Eigen::MatrixXd& values, const Eigen::MatrixXd
     fail(ErrorKind::data, "the confounds are linearly dependent (rank " + std::to_string(qr.rank()) + " of " +
                               std::to_string(p) + " columns including the intercept and trend terms); "
                               "drop duplicated or constant confound columns");
-  const Eigen::MatrixXd beta = qr.solve(fit_values);
-  return values - design * beta;
+  // beta = P R^-1 Q^T y with a thin Q: two matrix products instead of applying every
+  // Householder reflection to every region, and still no squared condition number.
+  const Eigen::MatrixXd q = qr.householderQ() * Eigen::MatrixXd::Identity(fit_design.rows(), p);
+  const Eigen::MatrixXd qty = q.transpose() * fit_values;
+  const Eigen::MatrixXd z = qr.matrixR().topLeftCorner(p, p).triangularView<Eigen::Upper>().solve(qty);
+  const Eigen::MatrixXd beta = qr.colsPermutation() * z;
+  Eigen::MatrixXd residuals = values;
+  residuals.noalias() -= design * beta;
+  return residuals;
 }
 
 std::vector<bool> frames_to_keep(Eigen::Index frames, const Eigen::VectorXd& motion, double limit,

@@ -152,24 +152,36 @@ Eigen::Index default_padding(const Sections& sections) {
 
 namespace {
 
-// One pass of the cascade in transposed direct form II over x (in place), starting from
-// the steady state of a constant input equal to x[0].
-void cascade_pass(const Sections& sos, std::vector<double>& x) {
-  const Eigen::Index sections = sos.rows();
-  double level = x[0];
-  for (Eigen::Index s = 0; s < sections; ++s) {
+// Columns filtered together: their recursions are independent, so interleaving them hides
+// the latency of each recursion and lets the compiler vectorise across columns.
+constexpr std::size_t kLanes = 8;
+
+// One pass of the cascade in transposed direct form II over `length` rows of a row-major
+// block x[t * kLanes + lane], forward or backward, starting
+// each lane from the steady state of a constant input equal to its first value.
+void cascade_pass(const Sections& sos, double* x, std::size_t length, bool backward) {
+  double level[kLanes], z1[kLanes], z2[kLanes];
+  const std::size_t first = backward ? length - 1 : 0;
+  for (std::size_t l = 0; l < kLanes; ++l) level[l] = x[first * kLanes + l];
+  for (Eigen::Index s = 0; s < sos.rows(); ++s) {
     const double b0 = sos(s, 0), b1 = sos(s, 1), b2 = sos(s, 2), a1 = sos(s, 4), a2 = sos(s, 5);
     // Steady state for a constant input `level`: output gain * level.
     const double g = (b0 + b1 + b2) / (1.0 + a1 + a2);
-    double z1 = (g - b0) * level, z2 = (b2 - a2 * g) * level;
-    for (double& v : x) {
-      const double in = v;
-      const double out = b0 * in + z1;
-      z1 = b1 * in - a1 * out + z2;
-      z2 = b2 * in - a2 * out;
-      v = out;
+    for (std::size_t l = 0; l < kLanes; ++l) {
+      z1[l] = (g - b0) * level[l];
+      z2[l] = (b2 - a2 * g) * level[l];
+      level[l] *= g;
     }
-    level *= g;
+    for (std::size_t k = 0; k < length; ++k) {
+      double* row = x + (backward ? length - 1 - k : k) * kLanes;
+      for (std::size_t l = 0; l < kLanes; ++l) {
+        const double in = row[l];
+        const double out = b0 * in + z1[l];
+        z1[l] = b1 * in - a1 * out + z2[l];
+        z2[l] = b2 * in - a2 * out;
+        row[l] = out;
+      }
+    }
   }
 }
 
@@ -180,18 +192,26 @@ Eigen::MatrixXd filter_forward_backward(const Sections& sos, const Eigen::Matrix
   if (padding >= T) fail(ErrorKind::internal, "padding must be shorter than the series");
   Eigen::MatrixXd out(T, values.cols());
   const auto P = static_cast<std::size_t>(padding);
-  std::vector<double> x(static_cast<std::size_t>(T) + 2 * P);
-  for (Eigen::Index j = 0; j < values.cols(); ++j) {
-    const double* v = values.col(j).data();
-    const double first = v[0], last = v[T - 1];
-    // Odd reflection about the end points keeps value and slope continuous.
-    for (std::size_t k = 0; k < P; ++k) x[k] = 2.0 * first - v[P - k];
-    for (Eigen::Index t = 0; t < T; ++t) x[P + static_cast<std::size_t>(t)] = v[t];
-    for (std::size_t k = 0; k < P; ++k) x[P + static_cast<std::size_t>(T) + k] = 2.0 * last - v[T - 2 - static_cast<Eigen::Index>(k)];
-    cascade_pass(sos, x);
-    std::reverse(x.begin(), x.end());
-    cascade_pass(sos, x);
-    for (Eigen::Index t = 0; t < T; ++t) out(t, j) = x[x.size() - 1 - P - static_cast<std::size_t>(t)];
+  const auto n = static_cast<std::size_t>(T);
+  const std::size_t length = n + 2 * P;
+  std::vector<double> x(length * kLanes);
+  for (Eigen::Index j0 = 0; j0 < values.cols(); j0 += static_cast<Eigen::Index>(kLanes)) {
+    const auto lanes = static_cast<std::size_t>(std::min<Eigen::Index>(static_cast<Eigen::Index>(kLanes), values.cols() - j0));
+    for (std::size_t l = 0; l < kLanes; ++l) {
+      // Unused lanes repeat the last column; their output is discarded.
+      const double* v = values.col(j0 + static_cast<Eigen::Index>(std::min(l, lanes - 1))).data();
+      const double first = v[0], last = v[n - 1];
+      // Odd reflection about the end points keeps value and slope continuous.
+      for (std::size_t k = 0; k < P; ++k) x[k * kLanes + l] = 2.0 * first - v[P - k];
+      for (std::size_t t = 0; t < n; ++t) x[(P + t) * kLanes + l] = v[t];
+      for (std::size_t k = 0; k < P; ++k) x[(P + n + k) * kLanes + l] = 2.0 * last - v[n - 2 - k];
+    }
+    cascade_pass(sos, x.data(), length, false);
+    cascade_pass(sos, x.data(), length, true);
+    for (std::size_t l = 0; l < lanes; ++l) {
+      double* o = out.col(j0 + static_cast<Eigen::Index>(l)).data();
+      for (std::size_t t = 0; t < n; ++t) o[t] = x[(P + t) * kLanes + l];
+    }
   }
   return out;
 }
