@@ -19,36 +19,42 @@ Eigen::MatrixXd symmetric_from_lower(Eigen::MatrixXd m) {
 }
 
 // Lag indices from the imaginary parts of the cross products, Im(z_i conj z_j) =
-// y_i x_j - x_i y_j with z = x + i y. Real and imaginary parts sit in separate contiguous
-// columns and the sums run over blocks with Eigen's vectorised reductions (plain loops
-// would not vectorise: floating-point sums are not reassociated without -ffast-math).
+// y_i x_j - x_i y_j with z = x + i y. Time runs in blocks that stay in cache while every
+// pair visits them (pair-by-pair over whole columns is bound by memory traffic); within a
+// block real and imaginary parts sit in separate contiguous columns and Eigen's vectorised
+// reductions do the sums (plain loops would not vectorise: floating-point sums are not
+// reassociated without -ffast-math). The order of the sums is fixed, so results are too.
 Eigen::MatrixXd lag_indices(const Eigen::MatrixXcd& z, bool weighted) {
   const Eigen::Index T = z.rows(), N = z.cols();
-  const Eigen::ArrayXXd re = z.real(), im = z.imag();
-  const Eigen::Index block = 2048;  // a block of products stays in the L1/L2 cache
-  Eigen::ArrayXd v(std::min(block, T));
-  Eigen::MatrixXd out(N, N);
-  for (Eigen::Index j = 0; j < N; ++j) {
-    for (Eigen::Index i = j + 1; i < N; ++i) {
-      double sum = 0.0, sum_abs = 0.0;
-      Eigen::Index positive = 0, negative = 0;
-      for (Eigen::Index t0 = 0; t0 < T; t0 += block) {
-        const Eigen::Index n = std::min(block, T - t0);
-        auto w = v.head(n);
-        w = im.col(i).segment(t0, n) * re.col(j).segment(t0, n) - re.col(i).segment(t0, n) * im.col(j).segment(t0, n);
+  const Eigen::Index block = std::min<Eigen::Index>(1024, T);
+  Eigen::ArrayXXd re(block, N), im(block, N);
+  Eigen::ArrayXd w(block);
+  Eigen::MatrixXd sum = Eigen::MatrixXd::Zero(N, N), sum_abs = Eigen::MatrixXd::Zero(N, N);
+  Eigen::Matrix<Eigen::Index, Eigen::Dynamic, Eigen::Dynamic> sign_sum =
+      Eigen::Matrix<Eigen::Index, Eigen::Dynamic, Eigen::Dynamic>::Zero(N, N);
+  for (Eigen::Index t0 = 0; t0 < T; t0 += block) {
+    const Eigen::Index n = std::min(block, T - t0);
+    re.topRows(n) = z.middleRows(t0, n).real();
+    im.topRows(n) = z.middleRows(t0, n).imag();
+    for (Eigen::Index j = 0; j < N; ++j) {
+      for (Eigen::Index i = j + 1; i < N; ++i) {
+        auto v = w.head(n);
+        v = im.col(i).head(n) * re.col(j).head(n) - re.col(i).head(n) * im.col(j).head(n);
         if (weighted) {
-          sum += w.sum();
-          sum_abs += w.abs().sum();
+          sum(i, j) += v.sum();
+          sum_abs(i, j) += v.abs().sum();
         } else {
-          positive += (w > 0.0).count();
-          negative += (w < 0.0).count();
+          sign_sum(i, j) += (v > 0.0).count() - (v < 0.0).count();
         }
       }
-      if (weighted) out(i, j) = sum_abs > 0.0 ? std::fabs(sum) / sum_abs : 0.0;
-      else out(i, j) = static_cast<double>(positive > negative ? positive - negative : negative - positive) /
-                       static_cast<double>(T);
     }
   }
+  Eigen::MatrixXd out(N, N);
+  for (Eigen::Index j = 0; j < N; ++j)
+    for (Eigen::Index i = j + 1; i < N; ++i)
+      out(i, j) = weighted ? (sum_abs(i, j) > 0.0 ? std::fabs(sum(i, j)) / sum_abs(i, j) : 0.0)
+                           : static_cast<double>(sign_sum(i, j) < 0 ? -sign_sum(i, j) : sign_sum(i, j)) /
+                                 static_cast<double>(T);
   return symmetric_from_lower(out);
 }
 
