@@ -110,6 +110,10 @@ Eigen::MatrixXd phase_coupling(const Eigen::MatrixXcd& analytic, PhaseMeasure me
     case PhaseMeasure::weighted_lag_index: return lag_indices(analytic, true);
     case PhaseMeasure::envelope: {
       const Eigen::MatrixXd amplitude = analytic.cwiseAbs();
+      for (Eigen::Index j = 0; j < amplitude.cols(); ++j)
+        if (!(amplitude.col(j).maxCoeff() > amplitude.col(j).minCoeff()))
+          fail(ErrorKind::data, "the amplitude envelope of region " + std::to_string(j + 1) +
+                                    " is constant, so its correlation is undefined");
       return pearson(amplitude);
     }
     case PhaseMeasure::envelope_orthogonalised: return orthogonalised_envelopes(analytic);
