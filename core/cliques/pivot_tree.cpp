@@ -3,6 +3,14 @@
 #include <algorithm>
 #include <bit>
 
+// The hot loops are popcounts; x86-64 builds get a second copy using the POPCNT
+// instruction, picked at load time, so one binary runs everywhere at full speed.
+#if defined(__x86_64__) && defined(__GNUC__) && !defined(__clang__)
+#define CRITPLEX_POPCOUNT_CLONES __attribute__((target_clones("popcnt", "default")))
+#else
+#define CRITPLEX_POPCOUNT_CLONES
+#endif
+
 namespace critplex::cliques {
 
 BitGraph::BitGraph(std::size_t nodes) : nodes_(nodes), words_((nodes + 63) / 64), bits_(nodes * words_, 0) {}
@@ -57,6 +65,7 @@ void LinkCounter::tick() {
   }
 }
 
+CRITPLEX_POPCOUNT_CLONES
 void LinkCounter::count_edge(const BitGraph& g, std::uint32_t u, std::uint32_t v, IntervalTally& tally,
                              const std::function<bool()>& poll) {
   g_ = &g;
@@ -68,19 +77,58 @@ void LinkCounter::count_edge(const BitGraph& g, std::uint32_t u, std::uint32_t v
   pivots_.clear();
   const std::uint64_t* ru = g.row(u);
   const std::uint64_t* rv = g.row(v);
-  std::uint64_t* root = sets_.data();
-  std::size_t lo = words_, hi = 0;
-  for (std::size_t w = 0; w < words_; ++w) {
-    root[w] = ru[w] & rv[w];
-    if (root[w]) {
-      lo = std::min(lo, w);
-      hi = w + 1;
-    }
-  }
-  if (hi == 0) lo = 0;
   ++tally.edges;
   ++tally.work;
-  walk(0, lo, hi, 0, 0);
+  if (chi_only_) {
+    // chi: work on the global rows; most links are cones found at the root.
+    rows_ = g.row(0);
+    lw_ = words_;
+    compact_ = false;
+    std::uint64_t* root = sets_.data();
+    std::size_t lo = words_, hi = 0;
+    for (std::size_t w = 0; w < words_; ++w) {
+      root[w] = ru[w] & rv[w];
+      if (root[w]) {
+        lo = std::min(lo, w);
+        hi = w + 1;
+      }
+    }
+    if (hi == 0) lo = 0;
+    walk(0, lo, hi, 0, 0);
+    return;
+  }
+  // Full counts: renumber the common neighbourhood 0..c-1 and copy its adjacency into
+  // rows of ceil(c / 64) words, so every set operation below touches only the link.
+  common_.resize(words_);
+  rank_.resize(words_);
+  members_.clear();
+  for (std::size_t w = 0; w < words_; ++w) {
+    common_[w] = ru[w] & rv[w];
+    rank_[w] = static_cast<std::uint32_t>(members_.size());
+    for (std::uint64_t bits = common_[w]; bits; bits &= bits - 1)
+      members_.push_back(static_cast<std::uint32_t>(w * 64 + static_cast<std::size_t>(std::countr_zero(bits))));
+  }
+  const std::size_t c = members_.size();
+  lw_ = (c + 63) / 64;
+  compact_ = true;
+  local_.assign(c * lw_, 0);
+  for (std::size_t i = 0; i < c; ++i) {
+    const std::uint64_t* row = g.row(members_[i]);
+    std::uint64_t* out = local_.data() + i * lw_;
+    for (std::size_t w = 0; w < words_; ++w) {
+      if (!common_[w]) continue;
+      for (std::uint64_t bits = row[w] & common_[w]; bits; bits &= bits - 1) {
+        const std::uint64_t below = (std::uint64_t{1} << std::countr_zero(bits)) - 1;
+        const std::size_t j = rank_[w] + static_cast<std::size_t>(std::popcount(common_[w] & below));
+        out[j / 64] |= std::uint64_t{1} << (j % 64);
+      }
+    }
+  }
+  rows_ = local_.data();
+  std::uint64_t* root = sets_.data();
+  for (std::size_t w = 0; w < lw_; ++w) root[w] = ~std::uint64_t{0};
+  if (c % 64) root[lw_ - 1] = (std::uint64_t{1} << (c % 64)) - 1;
+  walk(0, 0, lw_, 0, 0);
 }
 
 void LinkCounter::leaf(std::size_t h, std::size_t p) {
@@ -107,18 +155,19 @@ void LinkCounter::leaf(std::size_t h, std::size_t p) {
     const int128 c = binomial(p, j);
     add(u_, 1 + h + j, c);
     add(v_, 1 + h + j, c);
-    for (std::uint32_t x : holds_) add(x, 1 + h + j, c);
+    for (std::uint32_t x : holds_) add(global(x), 1 + h + j, c);
   }
   // A pivot node is in C(p - 1, j - 1) of the cliques with j pivots.
   for (std::size_t j = 1; j <= top_j; ++j) {
     const int128 c = binomial(p - 1, j - 1);
-    for (std::uint32_t x : pivots_) add(x, 1 + h + j, c);
+    for (std::uint32_t x : pivots_) add(global(x), 1 + h + j, c);
   }
 }
 
+CRITPLEX_POPCOUNT_CLONES
 void LinkCounter::walk(std::size_t depth, std::size_t lo, std::size_t hi, std::size_t h, std::size_t p) {
   tick();
-  const std::uint64_t* set = sets_.data() + depth * words_;
+  const std::uint64_t* set = sets_.data() + depth * lw_;
   std::size_t size = 0;
   for (std::size_t w = lo; w < hi; ++w) size += static_cast<std::size_t>(std::popcount(set[w]));
   if (size == 0) {
@@ -132,9 +181,9 @@ void LinkCounter::walk(std::size_t depth, std::size_t lo, std::size_t hi, std::s
   for (std::size_t w = lo; w < hi; ++w) {
     for (std::uint64_t bits = set[w]; bits; bits &= bits - 1) {
       const std::size_t x = w * 64 + static_cast<std::size_t>(std::countr_zero(bits));
-      const std::uint64_t* row = g_->row(x);
+      const std::uint64_t* nbr = row(x);
       std::size_t d = 0;
-      for (std::size_t i = lo; i < hi; ++i) d += static_cast<std::size_t>(std::popcount(row[i] & set[i]));
+      for (std::size_t i = lo; i < hi; ++i) d += static_cast<std::size_t>(std::popcount(nbr[i] & set[i]));
       if (!found || d > best) {
         pivot = x;
         best = d;
@@ -147,7 +196,7 @@ void LinkCounter::walk(std::size_t depth, std::size_t lo, std::size_t hi, std::s
     }
   }
 
-  std::uint64_t* child = sets_.data() + (depth + 1) * words_;
+  std::uint64_t* child = sets_.data() + (depth + 1) * lw_;
   auto fill_child = [&](const std::uint64_t* a, const std::uint64_t* b, std::size_t& clo, std::size_t& chi) {
     clo = hi;
     chi = lo;
@@ -173,7 +222,7 @@ void LinkCounter::walk(std::size_t depth, std::size_t lo, std::size_t hi, std::s
       return;
     }
     std::size_t clo, chi;
-    fill_child(set, g_->row(pivot), clo, chi);
+    fill_child(set, row(pivot), clo, chi);
     if (node_counts_) pivots_.push_back(static_cast<std::uint32_t>(pivot));
     walk(depth + 1, clo, chi, h, p + 1);
     if (node_counts_) pivots_.pop_back();
@@ -181,7 +230,7 @@ void LinkCounter::walk(std::size_t depth, std::size_t lo, std::size_t hi, std::s
 
   // Branches on the candidates outside the pivot's neighbourhood, each taken as a hold
   // node and removed from later branches so every clique is counted once.
-  const std::uint64_t* pivot_row = g_->row(pivot);
+  const std::uint64_t* pivot_row = row(pivot);
   bool any = false;
   for (std::size_t w = lo; w < hi && !any; ++w)
     any = (set[w] & ~pivot_row[w] & ~(w == pivot / 64 ? std::uint64_t{1} << (pivot % 64) : 0)) != 0;
@@ -190,7 +239,7 @@ void LinkCounter::walk(std::size_t depth, std::size_t lo, std::size_t hi, std::s
     tally_->truncated = true;
     return;
   }
-  std::uint64_t* rest = rest_.data() + depth * words_;
+  std::uint64_t* rest = rest_.data() + depth * lw_;
   for (std::size_t w = lo; w < hi; ++w) rest[w] = set[w];
   rest[pivot / 64] &= ~(std::uint64_t{1} << (pivot % 64));
   for (std::size_t w = lo; w < hi; ++w) {
@@ -198,7 +247,7 @@ void LinkCounter::walk(std::size_t depth, std::size_t lo, std::size_t hi, std::s
       const std::size_t x = w * 64 + static_cast<std::size_t>(std::countr_zero(bits));
       if (x == pivot) continue;
       std::size_t clo, chi;
-      fill_child(rest, g_->row(x), clo, chi);
+      fill_child(rest, row(x), clo, chi);
       if (node_counts_) holds_.push_back(static_cast<std::uint32_t>(x));
       walk(depth + 1, clo, chi, h + 1, p);
       if (node_counts_) holds_.pop_back();

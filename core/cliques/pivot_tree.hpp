@@ -22,7 +22,13 @@ class BitGraph {
 
  private:
   std::size_t nodes_;
-  std::size_t words_;
+  std::size_t words_;                  // words of a global row
+  const std::uint64_t* rows_ = nullptr;  // adjacency rows the walk reads (global or local)
+  std::size_t lw_ = 0;                 // words of those rows
+  bool compact_ = false;               // rows are the renumbered link (full counts)
+  std::vector<std::uint32_t> members_; // local number -> global node
+  std::vector<std::uint32_t> rank_;    // members in earlier words
+  std::vector<std::uint64_t> common_, local_;
   std::vector<std::uint64_t> bits_;
 };
 
@@ -64,6 +70,8 @@ class LinkCounter {
   void walk(std::size_t depth, std::size_t lo, std::size_t hi, std::size_t h, std::size_t p);
   void leaf(std::size_t h, std::size_t p);
   void tick();
+  const std::uint64_t* row(std::size_t x) const { return rows_ + x * lw_; }
+  std::uint32_t global(std::uint32_t x) const { return compact_ ? members_[x] : x; }
 
   const BitGraph* g_ = nullptr;
   IntervalTally* tally_ = nullptr;
@@ -71,7 +79,13 @@ class LinkCounter {
   bool chi_only_;
   std::size_t max_nodes_;
   bool node_counts_;
-  std::size_t words_;
+  std::size_t words_;                  // words of a global row
+  const std::uint64_t* rows_ = nullptr;  // adjacency rows the walk reads (global or local)
+  std::size_t lw_ = 0;                 // words of those rows
+  bool compact_ = false;               // rows are the renumbered link (full counts)
+  std::vector<std::uint32_t> members_; // local number -> global node
+  std::vector<std::uint32_t> rank_;    // members in earlier words
+  std::vector<std::uint64_t> common_, local_;
   std::vector<std::uint64_t> sets_;   // per depth: the candidate set
   std::vector<std::uint64_t> rest_;   // per depth: candidates not yet branched on
   std::vector<std::uint32_t> holds_, pivots_;  // node counts only: the path's roles
