@@ -10,7 +10,6 @@
 
 #include "base/error.hpp"
 #include "base/exact.hpp"
-#include "io/files.hpp"
 
 namespace critplex::homology {
 
@@ -25,7 +24,7 @@ Options parse_options(const Json& section) {
   o.max_work = r.number("max_work", 0.0);
   if (o.max_work < 0)
     fail(ErrorKind::argument, "sweep options: homology: \"max_work\" must be >= 0 (0 = no limit), got " +
-                                  io::format_double(o.max_work));
+                                  std::to_string(o.max_work));
   const long long t = r.integer("threads", 0);
   if (t < 0 || t > 1024)
     fail(ErrorKind::argument, "sweep options: homology: \"threads\" must be in 0..1024 (0 = every core), got " +

@@ -1,11 +1,10 @@
 // Times the homology engine on one matrix file (driven by tests/bench/homology.py,
 // which runs the reference tools on the same input in the same run).
-//   bench_homology MATRIX --max-density RHO --dim K [--threads T] [--bars FILE]
 //   bench_homology --ranks FILE --threshold M --dim K [--threads T] [--bars FILE]
-// MATRIX: square symmetric matrix (TSV, CSV, text or NPY, as `critplex sweep` reads).
 // --ranks: the very file given to ripser (lower-distance matrix of edge ranks 1..M,
 // larger numbers for absent edges), read into the filtration directly, so both
-// programs start from the same bytes.
+// programs start from the same bytes (and this program links only the filtration and
+// homology stages, no matrix reader).
 // Prints "seconds <s>" and the bar counts; with --bars writes "dim birth death" lines
 // in rank units ("inf" for essential bars) for the driver's comparison.
 #include <chrono>
@@ -19,7 +18,6 @@
 #include "base/error.hpp"
 #include "filtration/filtration.hpp"
 #include "homology/persistence.hpp"
-#include "io/files.hpp"
 
 namespace {
 // Edges of rank 1..threshold from a lower-distance text file (rows i = 1..N-1 hold
@@ -66,18 +64,12 @@ critplex::filtration::Filtration read_ranks(const std::string& path, std::size_t
 }  // namespace
 
 int main(int argc, char** argv) {
-  if (argc < 2) {
-    std::cerr << "usage: bench_homology MATRIX --max-density RHO --dim K [--threads T] [--bars FILE]\n";
-    return 2;
-  }
-  std::string path = argv[1], bars_path, ranks_path;
-  double max_density = 1.0;
+  std::string bars_path, ranks_path;
   std::size_t threshold = 0;
   critplex::homology::Options options;
-  for (int i = path.rfind("--", 0) == 0 ? 1 : 2; i + 1 < argc; i += 2) {
+  for (int i = 1; i + 1 < argc; i += 2) {
     const std::string flag = argv[i], value = argv[i + 1];
-    if (flag == "--max-density") max_density = std::stod(value);
-    else if (flag == "--ranks") ranks_path = value;
+    if (flag == "--ranks") ranks_path = value;
     else if (flag == "--threshold") threshold = std::stoul(value);
     else if (flag == "--dim") options.max_dimension = std::stoi(value);
     else if (flag == "--threads") options.threads = std::stoi(value);
@@ -89,15 +81,12 @@ int main(int argc, char** argv) {
   }
   try {
     const auto start = std::chrono::steady_clock::now();
-    critplex::filtration::Filtration f;
-    if (!ranks_path.empty()) {
-      f = read_ranks(ranks_path, threshold);
-    } else {
-      const auto matrix = critplex::io::read_matrix(path, nlohmann::json::object());
-      f = critplex::filtration::build(matrix.values, critplex::filtration::WeightMode::positive, max_density);
+    if (ranks_path.empty() || threshold == 0) {
+      std::cerr << "usage: bench_homology --ranks FILE --threshold M --dim K [--threads T] [--bars FILE]\n";
+      return 2;
     }
+    const critplex::filtration::Filtration f = read_ranks(ranks_path, threshold);
     critplex::filtration::GridSpec spec;
-    spec.max_density = max_density;
     const auto grid = critplex::filtration::make_grid(f, spec);
     const auto result = critplex::homology::compute(f, grid, options, {});
     const double seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();

@@ -13,6 +13,7 @@
 #include <vector>
 
 #include "base/error.hpp"
+#include "cliques/counts.hpp"
 #include "filtration/filtration.hpp"
 #include "homology/persistence.hpp"
 
@@ -330,5 +331,30 @@ TEST_CASE("options are checked and index overflow fails loudly", "[homology][err
     FAIL("no overflow error");
   } catch (const Error& e) {
     CHECK(e.kind() == ErrorKind::overflow);
+  }
+}
+
+// reference: the Euler-Poincare formula chi = sum_k (-1)^k beta_k (METHODS.md), with chi
+// from the clique engine's exact counts (core/cliques), on every grid point where no
+// simplex lies above the computed dimensions.
+TEST_CASE("Euler-Poincare holds against the clique engine", "[homology][cliques]") {
+  std::mt19937_64 rng(17);
+  for (int trial = 0; trial < 6; ++trial) {
+    const auto m = matrix_of(24, random_graph(24, 0.4, rng), static_cast<unsigned>(trial + 40));
+    const auto f = filtration::build(m, filtration::WeightMode::positive);
+    filtration::GridSpec spec;
+    spec.kind = "every";
+    const auto grid = filtration::make_grid(f, spec);
+    homology::Options o;
+    o.max_dimension = 3;
+    const auto bars = homology::compute(f, grid, o, {});
+    const auto counts = cliques::count_on_grid(f, grid, cliques::Options{}, {});
+    REQUIRE(counts.complete_points == grid.size());
+    const std::size_t checked = homology::check_euler_poincare(bars, counts.counts, counts.chi, counts.complete_points);
+    CHECK(checked > grid.size() / 2);
+    // A wrong chi is caught, not passed on.
+    auto wrong = counts.chi;
+    wrong[1] += 1;
+    CHECK_THROWS_AS(homology::check_euler_poincare(bars, counts.counts, wrong, counts.complete_points), Error);
   }
 }
