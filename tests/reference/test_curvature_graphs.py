@@ -11,8 +11,12 @@ from `sweep` with a "curvature" section, against outside references:
   common neighbours; moments checked with numpy and scipy.stats (skew, kurtosis), and
   quantiles with numpy.quantile (linear).
 """
+import csv
 import ctypes
+import json
 import os
+import subprocess
+import tempfile
 import unittest
 from fractions import Fraction
 
@@ -195,6 +199,36 @@ class NodeCurvatureCall(unittest.TestCase):
         with self.assertRaises(critplex.CritplexError) as e:
             critplex.sweep(np.eye(4) + 0.1, curvature={"bins": "many"})
         self.assertIn("curvature.bins", str(e.exception))
+
+
+@unittest.skipUnless(os.environ.get("CRITPLEX_CLI"), "CRITPLEX_CLI not set")
+class CommandLine(unittest.TestCase):
+    def test_sweep_curvature_and_transitions_files(self):
+        # reference: METHODS.md worked value, octahedron node curvature 1/3 and chi = 2
+        edges = [(u, v) for u in range(6) for v in range(u + 1, 6) if not (u % 2 == 0 and v == u + 1)]
+        m = graph_matrix(6, edges)
+        with tempfile.TemporaryDirectory() as tmp:
+            matrix = os.path.join(tmp, "m.tsv")
+            np.savetxt(matrix, m, delimiter="\t")
+            out, summary = os.path.join(tmp, "c.tsv"), os.path.join(tmp, "t.tsv")
+            subprocess.run([os.environ["CRITPLEX_CLI"], "sweep", matrix, "--out", out, "--grid", "every",
+                            "--curvature", "--transitions-out", summary], check=True, capture_output=True)
+            with open(out) as f:
+                rows = list(csv.DictReader(f, delimiter="\t"))
+            self.assertEqual(int(rows[-1]["edges"]), 12)
+            self.assertAlmostEqual(float(rows[-1]["kappa_mean"]), 1 / 3, delta=1e-15)
+            self.assertAlmostEqual(float(rows[-1]["kappa_sd"]), 0.0, delta=1e-15)
+            self.assertEqual(rows[-1]["chi"], "2")
+            with open(summary) as f:
+                header = f.readline().rstrip("\n").split("\t")
+            self.assertEqual(header[:4], ["kind", "k", "density", "direction"])
+            # A bad option fails with a message naming it and leaves no output behind.
+            bad_out = os.path.join(tmp, "bad.tsv")
+            r = subprocess.run([os.environ["CRITPLEX_CLI"], "sweep", matrix, "--out", bad_out,
+                                "--options", json.dumps({"curvature": {"quantiles": [2]}})], capture_output=True, text=True)
+            self.assertNotEqual(r.returncode, 0)
+            self.assertIn("curvature.quantiles", r.stderr)
+            self.assertFalse(os.path.exists(bad_out))
 
 
 if __name__ == "__main__":
