@@ -84,6 +84,19 @@ cpx_status cpx_stats_residualise(const double* values, size_t subjects, const do
   });
 }
 
+cpx_status cpx_stats_compare_summaries(const char* input_json, const char* options_json, char** result_json) {
+  return guard("cpx_stats_compare_summaries", [&] {
+    require_pointer(input_json, "input_json");
+    require_pointer(result_json, "result_json");
+    const std::string where = "options of cpx_stats_compare_summaries";
+    const auto options = cohort::permutation_options_from_json(parse_options(options_json, where), where);
+    const std::string input_where = "input of cpx_stats_compare_summaries";
+    const Json input = parse_options(input_json, input_where);
+    const auto rows = cohort::compare_summaries(cohort::summaries_from_json(input, input_where), options);
+    put_json(Json{{"tests", cohort::to_json(rows, options)}}, result_json);
+  });
+}
+
 cpx_status cpx_stats_t_quantile(double probability, double degrees_of_freedom, double* quantile) {
   return guard("cpx_stats_t_quantile", [&] {
     require_pointer(quantile, "quantile");

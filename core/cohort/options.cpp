@@ -1,5 +1,8 @@
 #include "cohort/options.hpp"
 
+#include <cmath>
+#include <limits>
+
 namespace critplex::cohort {
 
 namespace {
@@ -81,6 +84,81 @@ Json to_json(const ClusterResult& r) {
   for (const auto& c : r.clusters)
     clusters.push_back({{"first", c.first}, {"last", c.last}, {"sign", c.sign}, {"mass", c.mass}, {"p_value", c.p_value}});
   return {{"t", r.t}, {"threshold", r.threshold}, {"clusters", clusters}, {"exact", r.exact}, {"null_size", r.null_size}};
+}
+
+namespace {
+
+std::vector<double> values_of(const Json& entry, const char* key, const std::string& where, bool allow_null) {
+  if (!entry.contains(key) || !entry.at(key).is_array())
+    fail(ErrorKind::argument, where + ": \"" + key + "\" must be a list of numbers");
+  std::vector<double> v;
+  for (std::size_t i = 0; i < entry.at(key).size(); ++i) {
+    const Json& x = entry.at(key)[i];
+    if (x.is_null() && allow_null) v.push_back(std::numeric_limits<double>::quiet_NaN());
+    else if (x.is_number() && std::isfinite(x.get<double>())) v.push_back(x.get<double>());
+    else fail(ErrorKind::argument, where + ": \"" + key + "\"[" + std::to_string(i) + "] is " + x.dump() +
+                                       (allow_null ? ", expected a finite number or null" : ", expected a finite number"));
+  }
+  return v;
+}
+
+}  // namespace
+
+SummaryComparisonInput summaries_from_json(const Json& input, const std::string& where) {
+  OptionReader r(input, where);
+  SummaryComparisonInput in;
+  const Json* summaries = r.raw("summaries");
+  if (summaries == nullptr || !summaries->is_array() || summaries->empty())
+    fail(ErrorKind::argument, where + ": \"summaries\" must be a non-empty list");
+  for (std::size_t s = 0; s < summaries->size(); ++s) {
+    const std::string here = where + ", summaries[" + std::to_string(s) + "]";
+    OptionReader e((*summaries)[s], here);
+    in.names.push_back(e.text("name", "summary " + std::to_string(s + 1)));
+    e.raw("a");
+    e.raw("b");
+    e.finish();
+    in.a.push_back(values_of((*summaries)[s], "a", here, true));
+    in.b.push_back(values_of((*summaries)[s], "b", here, true));
+  }
+  if (const Json* covariates = r.raw("covariates")) {
+    if (!covariates->is_array()) fail(ErrorKind::argument, where + ": \"covariates\" must be a list");
+    std::vector<std::vector<double>> ca, cb;
+    for (std::size_t c = 0; c < covariates->size(); ++c) {
+      const std::string here = where + ", covariates[" + std::to_string(c) + "]";
+      OptionReader e((*covariates)[c], here);
+      in.covariate_names.push_back(e.text("name", "covariate " + std::to_string(c + 1)));
+      e.raw("a");
+      e.raw("b");
+      e.finish();
+      ca.push_back(values_of((*covariates)[c], "a", here, false));
+      cb.push_back(values_of((*covariates)[c], "b", here, false));
+      if (ca.back().size() != ca.front().size() || cb.back().size() != cb.front().size())
+        fail(ErrorKind::argument, here + ": lists differ in length from the first covariate's");
+    }
+    if (!ca.empty()) {
+      in.covariates_a.resize(static_cast<Eigen::Index>(ca.front().size()), static_cast<Eigen::Index>(ca.size()));
+      in.covariates_b.resize(static_cast<Eigen::Index>(cb.front().size()), static_cast<Eigen::Index>(cb.size()));
+      for (std::size_t c = 0; c < ca.size(); ++c) {
+        for (std::size_t i = 0; i < ca[c].size(); ++i) in.covariates_a(static_cast<Eigen::Index>(i), static_cast<Eigen::Index>(c)) = ca[c][i];
+        for (std::size_t i = 0; i < cb[c].size(); ++i) in.covariates_b(static_cast<Eigen::Index>(i), static_cast<Eigen::Index>(c)) = cb[c][i];
+      }
+    }
+  }
+  r.finish();
+  return in;
+}
+
+Json to_json(const std::vector<SummaryTestRow>& rows, const PermutationOptions& options) {
+  Json out = Json::array();
+  for (const auto& row : rows) {
+    Json j = to_json(row.result, options);
+    j["summary"] = row.summary;
+    j["p_adjusted"] = row.p_adjusted;
+    j["missing_a"] = row.missing_a;
+    j["missing_b"] = row.missing_b;
+    out.push_back(j);
+  }
+  return out;
 }
 
 }  // namespace critplex::cohort

@@ -20,4 +20,9 @@ Json to_json(const PermutationResult& r, const PermutationOptions& options);
 Json to_json(const Band& band);
 Json to_json(const ClusterResult& r);
 
+// {"summaries": [{"name", "a": [...], "b": [...]}], "covariates": [{"name", "a", "b"}]}
+// (covariates optional; null in a summary list marks a missing value).
+SummaryComparisonInput summaries_from_json(const Json& input, const std::string& where);
+Json to_json(const std::vector<SummaryTestRow>& rows, const PermutationOptions& options);
+
 }  // namespace critplex::cohort

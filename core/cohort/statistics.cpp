@@ -445,4 +445,53 @@ ClusterResult cluster_permutation_test(const Eigen::MatrixXd& a, const Eigen::Ma
   return result;
 }
 
+std::vector<SummaryTestRow> compare_summaries(const SummaryComparisonInput& in, const PermutationOptions& options) {
+  const std::size_t count = in.names.size();
+  if (in.a.size() != count || in.b.size() != count)
+    fail(ErrorKind::argument, "summaries: " + std::to_string(count) + " names but " + std::to_string(in.a.size()) +
+                                  " and " + std::to_string(in.b.size()) + " value lists");
+  const bool adjust = in.covariates_a.cols() > 0 || in.covariates_b.cols() > 0;
+  if (adjust && in.covariates_a.cols() != in.covariates_b.cols())
+    fail(ErrorKind::argument, "covariates: the groups have different numbers of covariate columns");
+  std::vector<SummaryTestRow> rows;
+  std::vector<double> p_values;
+  for (std::size_t s = 0; s < count; ++s) {
+    const auto& va = in.a[s];
+    const auto& vb = in.b[s];
+    if (adjust && (static_cast<Eigen::Index>(va.size()) != in.covariates_a.rows() ||
+                   static_cast<Eigen::Index>(vb.size()) != in.covariates_b.rows()))
+      fail(ErrorKind::argument, "summary '" + in.names[s] + "': " + std::to_string(va.size()) + " + " +
+                                    std::to_string(vb.size()) + " subjects but covariates for " +
+                                    std::to_string(in.covariates_a.rows()) + " + " + std::to_string(in.covariates_b.rows()));
+    SummaryTestRow row;
+    row.summary = in.names[s];
+    std::vector<double> xa, xb;
+    std::vector<Eigen::Index> keep_a, keep_b;
+    for (std::size_t i = 0; i < va.size(); ++i)
+      if (std::isnan(va[i])) ++row.missing_a; else xa.push_back(va[i]), keep_a.push_back(static_cast<Eigen::Index>(i));
+    for (std::size_t i = 0; i < vb.size(); ++i)
+      if (std::isnan(vb[i])) ++row.missing_b; else xb.push_back(vb[i]), keep_b.push_back(static_cast<Eigen::Index>(i));
+    try {
+      if (adjust) {
+        const auto na = static_cast<Eigen::Index>(xa.size()), nb = static_cast<Eigen::Index>(xb.size());
+        Eigen::VectorXd y(na + nb);
+        Eigen::MatrixXd x(na + nb, in.covariates_a.cols());
+        for (Eigen::Index i = 0; i < na; ++i) y(i) = xa[static_cast<std::size_t>(i)], x.row(i) = in.covariates_a.row(keep_a[static_cast<std::size_t>(i)]);
+        for (Eigen::Index i = 0; i < nb; ++i) y(na + i) = xb[static_cast<std::size_t>(i)], x.row(na + i) = in.covariates_b.row(keep_b[static_cast<std::size_t>(i)]);
+        const Eigen::VectorXd r = residualise(y, x);
+        for (Eigen::Index i = 0; i < na; ++i) xa[static_cast<std::size_t>(i)] = r(i);
+        for (Eigen::Index i = 0; i < nb; ++i) xb[static_cast<std::size_t>(i)] = r(na + i);
+      }
+      row.result = permutation_test(xa, xb, options);
+    } catch (const Error& e) {
+      fail(e.kind(), "summary '" + in.names[s] + "': " + e.what());
+    }
+    p_values.push_back(row.result.p_value);
+    rows.push_back(row);
+  }
+  const auto adjusted = benjamini_hochberg(p_values);
+  for (std::size_t s = 0; s < rows.size(); ++s) rows[s].p_adjusted = adjusted[s];
+  return rows;
+}
+
 }  // namespace critplex::cohort

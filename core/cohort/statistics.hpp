@@ -142,4 +142,27 @@ struct ClusterResult {
 ClusterResult cluster_permutation_test(const Eigen::MatrixXd& a, const Eigen::MatrixXd& b,
                                        const ClusterOptions& options);
 
+// --- several per-subject summaries at once --------------------------------------------
+// Each summary (first transition density, each chi zero, Betti peak positions, curvature
+// moments, ...) is tested with permutation_test; Benjamini-Hochberg adjusts across the
+// summaries. NaN marks a subject without that summary (e.g. chi never changes sign): the
+// subject is left out of that summary's test only. With covariates, each summary is first
+// replaced by its residuals on the covariates (pooled over both groups, intercept
+// included); the statistic, the means and Hedges' g are then those of the residuals.
+struct SummaryComparisonInput {
+  std::vector<std::string> names;           // one per summary
+  std::vector<std::vector<double>> a, b;    // [summary][subject]
+  Eigen::MatrixXd covariates_a, covariates_b;  // subjects x covariates (0 columns: none)
+  std::vector<std::string> covariate_names;
+};
+
+struct SummaryTestRow {
+  std::string summary;
+  PermutationResult result;
+  double p_adjusted = 1.0;
+  std::size_t missing_a = 0, missing_b = 0;  // subjects left out (NaN)
+};
+
+std::vector<SummaryTestRow> compare_summaries(const SummaryComparisonInput& input, const PermutationOptions& options);
+
 }  // namespace critplex::cohort

@@ -27,6 +27,7 @@ lib.cpx_stats_cluster_test.argtypes = [dp, ctypes.c_size_t, dp, ctypes.c_size_t,
                                        ctypes.c_char_p, ctypes.POINTER(ctypes.c_void_p)]
 lib.cpx_stats_fdr.argtypes = [dp, ctypes.c_size_t, dp, ctypes.c_size_t]
 lib.cpx_stats_residualise.argtypes = [dp, ctypes.c_size_t, dp, ctypes.c_size_t, ctypes.c_int, dp, ctypes.c_size_t]
+lib.cpx_stats_compare_summaries.argtypes = [ctypes.c_char_p, ctypes.c_char_p, ctypes.POINTER(ctypes.c_void_p)]
 lib.cpx_stats_t_quantile.argtypes = [ctypes.c_double, ctypes.c_double, dp]
 ROW_MAJOR = 0
 
@@ -220,6 +221,53 @@ class CovariatesAndT(unittest.TestCase):
                 # its own ppf can miss p by 5e-11), so check the defining property tightly
                 self.assertAlmostEqual(stats.t.cdf(q.value, df), p, delta=1e-13)
                 self.assertAlmostEqual(q.value, stats.t.ppf(p, df), delta=1e-8 * max(1, abs(q.value)))
+
+
+class SeveralSummaries(unittest.TestCase):
+    def test_summaries_with_covariate_and_missing_values(self):
+        # references: numpy.linalg.lstsq (residuals on intercept + age, pooled over groups),
+        # scipy.stats.permutation_test on the residuals (exact), statsmodels multipletests
+        # (fdr_bh) across the summaries
+        rng = np.random.default_rng(21)
+        n_a, n_b = 6, 7
+        age_a, age_b = rng.uniform(19, 35, n_a), rng.uniform(19, 35, n_b)
+        summaries = []
+        for k in range(3):
+            a = 0.01 * age_a + rng.normal(0.2 + 0.05 * k, 0.02, n_a)
+            b = 0.01 * age_b + rng.normal(0.2, 0.02, n_b)
+            summaries.append((f"s{k}", a, b))
+        a_missing = summaries[2][1].copy()
+        a_missing[1] = np.nan  # that subject has no value for summary s2
+        summaries[2] = ("s2", a_missing, summaries[2][2])
+        payload = {"summaries": [{"name": n, "a": [None if np.isnan(v) else v for v in a], "b": list(b)}
+                                 for n, a, b in summaries],
+                   "covariates": [{"name": "age", "a": list(age_a), "b": list(age_b)}]}
+        out = ctypes.c_void_p()
+        check(lib.cpx_stats_compare_summaries(json.dumps(payload).encode(), b'{"statistic": "welch_t"}',
+                                              ctypes.byref(out)))
+        rows = take_json(out)["tests"]
+        p_ref = []
+        for row, (name, a, b) in zip(rows, summaries):
+            keep = ~np.isnan(a)
+            y = np.concatenate([a[keep], b])
+            design = np.column_stack([np.ones(len(y)), np.concatenate([age_a[keep], age_b])])
+            r = y - design @ np.linalg.lstsq(design, y, rcond=None)[0]
+            ra, rb = r[: keep.sum()], r[keep.sum():]
+            ref = stats.permutation_test((ra, rb), welch, vectorized=True, n_resamples=10**9)
+            self.assertEqual(row["summary"], name)
+            self.assertTrue(row["exact"])
+            self.assertEqual(row["missing_a"], int((~keep).sum()))
+            self.assertAlmostEqual(row["statistic"], float(ref.statistic), places=9)
+            self.assertAlmostEqual(row["p_value"], float(ref.pvalue), places=14)
+            p_ref.append(float(ref.pvalue))
+        bh = multipletests(p_ref, method="fdr_bh")[1]
+        np.testing.assert_allclose([row["p_adjusted"] for row in rows], bh, atol=1e-15)
+
+    def test_error_names_the_summary(self):
+        payload = {"summaries": [{"name": "first zero", "a": [0.1], "b": [0.2, 0.3]}]}
+        out = ctypes.c_void_p()
+        self.assertNotEqual(lib.cpx_stats_compare_summaries(json.dumps(payload).encode(), None, ctypes.byref(out)), 0)
+        self.assertIn("first zero", lib.cpx_last_error().decode())
 
 
 class ClusterTest(unittest.TestCase):

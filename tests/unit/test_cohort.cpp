@@ -116,3 +116,21 @@ TEST_CASE("cluster test finds a shifted stretch and rejects bad shapes", "[cohor
 TEST_CASE("too few subjects is a clear error", "[cohort]") {
   CHECK_THROWS_WITH(permutation_test({1.0}, {1.0, 2.0}, {}), Catch::Contains("at least 2"));
 }
+
+TEST_CASE("several summaries: missing values left out, BH across summaries", "[cohort]") {
+  SummaryComparisonInput in;
+  in.names = {"first zero", "beta_1 peak"};
+  in.a = {{4.0, 5.0, 6.0, std::nan("")}, {1.0, 2.0, 3.0, 4.0}};
+  in.b = {{1.0, 2.0, 3.0}, {1.5, 2.5, 3.5}};
+  const auto rows = compare_summaries(in, {});
+  REQUIRE(rows.size() == 2);
+  CHECK(rows[0].missing_a == 1);
+  CHECK(rows[0].result.n_a == 3);
+  CHECK(rows[0].result.p_value == Approx(2.0 / 20.0));  // as in the exact 3 vs 3 case above
+  const auto bh = benjamini_hochberg({rows[0].result.p_value, rows[1].result.p_value});
+  CHECK(rows[0].p_adjusted == bh[0]);
+  CHECK(rows[1].p_adjusted == bh[1]);
+  in.covariates_a = Eigen::MatrixXd::Ones(3, 1);  // 3 rows for 4 subjects
+  in.covariates_b = Eigen::MatrixXd::Ones(3, 1);
+  CHECK_THROWS_WITH(compare_summaries(in, {}), Catch::Contains("first zero"));
+}

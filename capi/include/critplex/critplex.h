@@ -226,6 +226,13 @@ CPX_API cpx_status cpx_stats_fdr(const double* p_values, size_t n, double* adjus
 CPX_API cpx_status cpx_stats_residualise(const double* values, size_t subjects, const double* covariates,
                                          size_t columns, cpx_layout layout, double* residuals,
                                          size_t residuals_length);
+/* Permutation tests of several per-subject summaries at once, Benjamini-Hochberg across
+ * them. input_json: {"summaries": [{"name", "a": [...], "b": [...]}], "covariates":
+ * [{"name", "a": [...], "b": [...]}]} (covariates optional: each summary is then replaced by
+ * its least-squares residuals on them; null marks a subject without that summary).
+ * options_json as for cpx_stats_permutation_test. Result: {"tests": [{"summary",
+ * "statistic", "p_value", "p_adjusted", "hedges_g", "missing_a", "missing_b", ...}]}. */
+CPX_API cpx_status cpx_stats_compare_summaries(const char* input_json, const char* options_json, char** result_json);
 /* Quantile of Student's t distribution: P(T <= *quantile) = probability. */
 CPX_API cpx_status cpx_stats_t_quantile(double probability, double degrees_of_freedom, double* quantile);
 
