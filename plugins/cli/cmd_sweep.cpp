@@ -38,6 +38,15 @@ int run_sweep(const Args& args) {
 
   // --curvature: node and edge curvature on the grid (the transitions come with chi anyway).
   if (args.has("curvature") && !options.contains("curvature")) options["curvature"] = nlohmann::json::object();
+  // Clique engine flags fill the "cliques" section (flags win over --options).
+  if (args.has("max-dimension") || args.has("max-work") || args.has("threads") || args.has("chi-only")) {
+    if (!options.contains("cliques") || !options["cliques"].is_object()) options["cliques"] = nlohmann::json::object();
+    auto& c = options["cliques"];
+    if (args.has("max-dimension")) c["max_dimension"] = args.integer("max-dimension", -1);
+    if (args.has("max-work")) c["max_work"] = args.number("max-work", 0);
+    if (args.has("threads")) c["threads"] = args.integer("threads", 0);
+    if (args.has("chi-only")) c["chi_only"] = true;
+  }
   const auto transitions_out = args.value("transitions-out");
 
   nlohmann::json read_options = nlohmann::json::object();
@@ -87,6 +96,10 @@ const Registration registration{Command{
      {"betti", "K", "also barcodes and Betti curves betti_0..betti_K (K = 2 is usual)"},
      {"curvature", "", "also node (Gauss-Bonnet) and edge (Forman-Ricci) curvature on the grid"},
      {"transitions-out", "FILE", "also write the transitions summary (chi zeros, Betti crossings, ...) as TSV"},
+     {"max-dimension", "K", "count cliques only up to dimension K (chi is then exact only until a larger clique forms)"},
+     {"max-work", "W", "stop after about W pivoting-tree nodes; the result says up to which density it is complete"},
+     {"threads", "T", "threads for the clique counts (default: all cores; results do not depend on it)"},
+     {"chi-only", "", "only the Euler characteristic (much faster; columns chi, cliques_0, cliques_1)"},
      {"options", "JSON", "sweep options as a JSON object (README: sweep options)"}},
     1,
     1,

@@ -125,7 +125,7 @@ def graph_matrix(n, edges):
 
 class AgainstNetworkxAndIgraph(unittest.TestCase):
     def check_matrix(self, matrix, densities):
-        result = sweep(matrix, {"grid": densities})
+        result = sweep(matrix, {"grid": {"densities": densities}})
         pairs = result["pairs"]
         for point in result["cliques"]["points"]:
             self.assertTrue(point["complete"])
