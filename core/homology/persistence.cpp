@@ -40,7 +40,9 @@ using u32 = std::uint32_t;
 using u64 = std::uint64_t;
 
 constexpr int kMaxVertices = 32;          // a (K+1)-simplex has K+2 vertices, K <= 30
-constexpr std::size_t kDenseLimit = 4096;  // nodes up to which edge ranks sit in an N x N table
+// Edge ranks sit in an N x N table (one load per lookup) while it costs at most 4 MiB or
+// a few times the neighbour lists; otherwise lookups search the sorted neighbour lists.
+constexpr std::size_t kDenseBytes = std::size_t{4} << 20;
 
 // The graph of the filtration: edge ranks (0 = absent), neighbour lists in
 // decreasing vertex order, and the binomial table of the combinatorial number system.
@@ -77,7 +79,8 @@ class Graph {
         neighbour_rank_[offset_[v] + i] = buffer[i].second;
       }
     }
-    if (n_ <= kDenseLimit) {
+    const std::size_t table_bytes = static_cast<std::size_t>(n_) * n_ * sizeof(u32);
+    if (table_bytes <= std::max(kDenseBytes, 4 * f.edges.size() * 2 * 2 * sizeof(u32))) {
       dense_.assign(static_cast<std::size_t>(n_) * n_, 0);
       for (std::size_t m = 0; m < f.edges.size(); ++m) {
         const auto& e = f.edges[m];
