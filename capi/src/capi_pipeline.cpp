@@ -37,3 +37,50 @@ cpx_status cpx_cohort_run(const char* manifest_path, const char* config_json, co
 }
 
 }  // extern "C"
+
+#include "io/files.hpp"
+#include "pipeline/compare.hpp"
+#include "pipeline/study.hpp"
+
+extern "C" {
+
+cpx_status cpx_cohort_compare(const char* dir, const char* options_json, char** comparison_json) {
+  return guard("cpx_cohort_compare", [&] {
+    require_pointer(dir, "dir");
+    require_pointer(comparison_json, "comparison_json");
+    const auto options = pipeline::parse_compare_options(parse_options(options_json, "options of cpx_cohort_compare"));
+    *comparison_json = copy_string(pipeline::compare_and_write(dir, options).dump());
+  });
+}
+
+cpx_status cpx_cohort_report(const char* dir, const char* options_json, char** report_path) {
+  return guard("cpx_cohort_report", [&] {
+    require_pointer(dir, "dir");
+    require_pointer(report_path, "report_path");
+    const Json options = parse_options(options_json, "options of cpx_cohort_report");
+    OptionReader r(options, "options of cpx_cohort_report");
+    const std::string out = r.text("out", std::string(dir) + "/report.html");
+    const std::string created = r.text("created", "");
+    r.finish();
+    const std::string source = std::string(dir) + "/group_comparison.json";
+    Json comparison;
+    try {
+      comparison = Json::parse(io::read_file(source));
+    } catch (const Json::parse_error& e) {
+      fail(ErrorKind::parse, "'" + source + "': not valid JSON (" + e.what() + ")");
+    }
+    io::write_file_atomically(out, pipeline::report_html(comparison, created));
+    *report_path = copy_string(out);
+  });
+}
+
+cpx_status cpx_simulate_study(const char* options_json, const char* dir, char** summary_json) {
+  return guard("cpx_simulate_study", [&] {
+    require_pointer(dir, "dir");
+    require_pointer(summary_json, "summary_json");
+    const Json options = parse_options(options_json, "options of cpx_simulate_study");
+    *summary_json = copy_string(pipeline::write_simulated_study(options, dir).dump());
+  });
+}
+
+}  // extern "C"

@@ -5,6 +5,7 @@
 #include <algorithm>
 #include <atomic>
 #include <cerrno>
+#include <filesystem>
 #include <cmath>
 #include <cstdlib>
 #include <cstring>
@@ -40,8 +41,9 @@ std::vector<std::string> split_tabs(const std::string& line) {
 }
 
 void make_folder(const std::string& dir) {
-  if (::mkdir(dir.c_str(), 0755) != 0 && errno != EEXIST)
-    fail(ErrorKind::io, "cannot create output folder '" + dir + "': " + std::strerror(errno));
+  std::error_code ec;
+  std::filesystem::create_directories(dir, ec);
+  if (ec) fail(ErrorKind::io, "cannot create folder '" + dir + "': " + ec.message());
 }
 
 // The fingerprint stored in a finished subject's document, or "" when there is none.

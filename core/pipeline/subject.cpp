@@ -184,6 +184,7 @@ Json subject_document(const SubjectResult& r) {
     entry["band"] = b.band;
     entry["connectivity"] = b.matrix.info;
     entry["sweep"] = sweep_to_json(b.sweep);
+    entry["curves"] = sweep_curves_json(b.sweep);
     entry["null"] = b.null;
     bands.push_back(std::move(entry));
   }

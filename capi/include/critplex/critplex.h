@@ -290,6 +290,24 @@ CPX_API cpx_status cpx_cohort_run(const char* manifest_path, const char* config_
 CPX_API cpx_status cpx_sweep_bars(const cpx_sweep* sweep, int dimension, cpx_layout layout, double* buffer,
                                   size_t buffer_length, size_t* bars);
 
+/* Group comparison of the finished subjects in dir (a cohort run's folder): group mean
+ * curves with bootstrap bands, permutation tests of per-subject summaries with Hedges g
+ * and Benjamini-Hochberg, cluster permutation tests along the density axis, null
+ * baselines. Writes dir/group_comparison.json and dir/group_tests.tsv; returns the
+ * comparison as JSON. Options (README, "Compare options"): {"band", "groups",
+ * "statistic", "exact_limit", "resamples", "seed", "confidence", "covariates",
+ * "cluster_curves"}. */
+CPX_API cpx_status cpx_cohort_compare(const char* dir, const char* options_json, char** comparison_json);
+
+/* Writes the self-contained HTML report of dir/group_comparison.json to dir/report.html
+ * (or options {"out": path}); options {"created": text shown as the creation date}. */
+CPX_API cpx_status cpx_cohort_report(const char* dir, const char* options_json, char** report_path);
+
+/* Writes a simulated study (invented data: time series, manifest.tsv, cohort_config.json,
+ * model.json) into dir from the demo cohort model; options as cpx_simulate_plan plus
+ * "config" (the subject config to write). Returns a summary as JSON. */
+CPX_API cpx_status cpx_simulate_study(const char* options_json, const char* dir, char** summary_json);
+
 /* --- stage sections below are added by the stages that own them ----------------------- */
 
 /* ------------------------------------------------------------------------------------ */

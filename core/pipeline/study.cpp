@@ -1,0 +1,76 @@
+#include "pipeline/study.hpp"
+
+#include <sys/stat.h>
+
+#include <cerrno>
+#include <filesystem>
+#include <cstring>
+
+#include "base/error.hpp"
+#include "connectivity/matrix.hpp"
+#include "io/files.hpp"
+#include "simulate/cohort_model.hpp"
+
+namespace critplex::pipeline {
+
+namespace {
+void make_folder(const std::string& dir) {
+  std::error_code ec;
+  std::filesystem::create_directories(dir, ec);
+  if (ec) fail(ErrorKind::io, "cannot create folder '" + dir + "': " + ec.message());
+}
+
+std::string series_tsv(const series::Series& s) {
+  std::string out;
+  for (std::size_t j = 0; j < s.names.size(); ++j) out += (j ? "\t" : "") + s.names[j];
+  out += "\n";
+  for (Eigen::Index t = 0; t < s.frames(); ++t) {
+    for (Eigen::Index j = 0; j < s.regions(); ++j) out += (j ? "\t" : "") + io::format_double(s.values(t, j));
+    out += "\n";
+  }
+  return out;
+}
+}  // namespace
+
+Json demo_analysis_config() {
+  return Json::parse(R"({
+    "connect": {"method": "pearson", "filter": {"design": "butterworth", "order": 4, "low_hz": 0.01, "high_hz": 0.1}},
+    "sweep": {"max_density": 0.4, "grid": 0.01, "homology": {"max_dimension": 2}, "curvature": {}},
+    "null": {"model": "rewire", "count": 9, "seed": 7}
+  })");
+}
+
+Json write_simulated_study(const Json& options, const std::string& dir) {
+  Json model_options = options;
+  Json config = demo_analysis_config();
+  if (model_options.contains("config")) {
+    config = model_options["config"];
+    model_options.erase("config");
+  }
+  const auto model = simulate::cohort_model_from_json(model_options, "simulate options");
+  const auto plan = simulate::plan_cohort(model);
+  // TSV files carry no sampling interval; the config does.
+  if (config.is_object() && config.contains("connect") && config["connect"].is_object() &&
+      !config["connect"].contains("sampling_interval"))
+    config["connect"]["sampling_interval"] = model.sampling_interval;
+  make_folder(dir);
+  make_folder(dir + "/timeseries");
+  std::string manifest = "subject\tgroup\ttimeseries\tage\n";
+  Json subjects = Json::array();
+  for (std::size_t i = 0; i < plan.subjects.size(); ++i) {
+    const auto& s = plan.subjects[i];
+    const std::string rel = "timeseries/sub-" + s.id + "_timeseries.tsv";
+    io::write_file_atomically(dir + "/" + rel, series_tsv(simulate::simulate_subject(model, plan, i)));
+    manifest += s.id + "\t" + s.group + "\t" + rel + "\t" + io::format_double(s.age) + "\n";
+    subjects.push_back({{"subject", s.id}, {"group", s.group}, {"global_strength", s.global_strength}, {"age", s.age}});
+  }
+  io::write_file_atomically(dir + "/manifest.tsv", manifest);
+  io::write_file_atomically(dir + "/cohort_config.json", config.dump(1) + "\n");
+  Json model_doc = {{"model", simulate::to_json(model)}, {"subjects", subjects},
+                    {"note", "Invented data from critplex's demo cohort model; no real person is described."}};
+  io::write_file_atomically(dir + "/model.json", model_doc.dump(1) + "\n");
+  return {{"subjects", plan.subjects.size()}, {"regions", model.regions}, {"frames", model.frames},
+          {"manifest", dir + "/manifest.tsv"}, {"config", dir + "/cohort_config.json"}};
+}
+
+}  // namespace critplex::pipeline
