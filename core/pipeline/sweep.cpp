@@ -1,5 +1,8 @@
 #include "pipeline/sweep.hpp"
 
+#include <cmath>
+#include <cstdlib>
+
 #include <optional>
 
 #include "base/error.hpp"
@@ -222,6 +225,19 @@ std::string sweep_curves_tsv(const SweepResult& result) {
     s += "\n";
   }
   return s;
+}
+
+Json sweep_curves_json(const SweepResult& result) {
+  Json j = Json::object();
+  for (std::size_t c = 0; c < result.columns.size(); ++c) {
+    Json values = Json::array();
+    for (const auto& row : result.rows) {
+      const double x = std::strtod(row[c].c_str(), nullptr);
+      values.push_back(std::isfinite(x) ? Json(x) : Json(nullptr));
+    }
+    j[result.columns[c]] = std::move(values);
+  }
+  return j;
 }
 
 }  // namespace critplex::pipeline

@@ -42,5 +42,8 @@ SweepResult run_sweep(const connectivity::Matrix& matrix, const SweepOptions& op
 // The whole result as one JSON document, and the grid curves as TSV.
 Json sweep_to_json(const SweepResult& result);
 std::string sweep_curves_tsv(const SweepResult& result);
+// The grid curves as {column: [numbers]} (null where not a number; integers beyond 2^53
+// are rounded here, the engine sections keep them exact).
+Json sweep_curves_json(const SweepResult& result);
 
 }  // namespace critplex::pipeline
