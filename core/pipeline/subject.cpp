@@ -88,6 +88,10 @@ SubjectConfig parse_subject_config(const Json& config, const std::string& base_d
         clean["censor"]["frame_mask"].is_string())
       clean["censor"]["frame_mask"] = resolve(clean["censor"]["frame_mask"].get<std::string>(), base);
   }
+  // Check the options now, so a typo fails before any work (engine sections are checked
+  // when the sweep runs).
+  (void)connectivity::parse_connect_options(c.connect_options, "subject config: connect");
+  (void)parse_sweep_options(c.sweep_options);
   return c;
 }
 

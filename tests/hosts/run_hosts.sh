@@ -17,7 +17,9 @@ case "$host" in
   r)
     export R_TEST_LIBRARY="$build_dir/hosts-r/library"
     mkdir -p "$R_TEST_LIBRARY"
-    R CMD INSTALL --no-test-load --library="$R_TEST_LIBRARY" "$src/plugins/r/critplex" >"$build_dir/hosts-r/install.log" 2>&1 \
+    # Build from a copy so no object files land in the source tree.
+    cp -r "$src/plugins/r/critplex" "$build_dir/hosts-r/critplex"
+    R CMD INSTALL --no-test-load --library="$R_TEST_LIBRARY" "$build_dir/hosts-r/critplex" >"$build_dir/hosts-r/install.log" 2>&1 \
       || { cat "$build_dir/hosts-r/install.log"; exit 1; }
     Rscript "$here/test_r.R"
     ;;
