@@ -16,7 +16,8 @@ import numpy as np
 
 __all__ = [
     "CritplexError", "library", "version", "abi_version", "Series", "Matrix", "Sweep",
-    "read_series", "read_matrix", "connect", "sweep",
+    "read_series", "read_matrix", "connect", "sweep", "run_subject", "run_cohort",
+    "compare", "report", "simulate_study",
 ]
 
 ROW_MAJOR = 0
@@ -73,6 +74,11 @@ def library() -> ctypes.CDLL:
         "cpx_sweep_shape": ([P, c.POINTER(c.c_size_t), c.POINTER(c.c_size_t)], c.c_int),
         "cpx_sweep_column_name": ([P, c.c_size_t, c.POINTER(P)], c.c_int),
         "cpx_sweep_curve": ([P, c.c_char_p, P, c.c_size_t], c.c_int),
+        "cpx_subject_run": ([c.c_char_p, c.c_char_p, _PROGRESS, P, c.POINTER(P)], c.c_int),
+        "cpx_cohort_run": ([c.c_char_p, c.c_char_p, c.c_char_p, c.c_char_p, _PROGRESS, P, c.POINTER(P)], c.c_int),
+        "cpx_cohort_compare": ([c.c_char_p, c.c_char_p, c.POINTER(P)], c.c_int),
+        "cpx_cohort_report": ([c.c_char_p, c.c_char_p, c.POINTER(P)], c.c_int),
+        "cpx_simulate_study": ([c.c_char_p, c.c_char_p, c.POINTER(P)], c.c_int),
     }
     for name, (args, res) in sig.items():
         f = getattr(lib, name)
@@ -276,3 +282,47 @@ def sweep(matrix, progress: Optional[Callable[[float], bool]] = None, **options)
     h = ctypes.c_void_p()
     _check(library().cpx_sweep_run(matrix._h, _options(options or None), cb, None, ctypes.byref(h)))
     return Sweep(h)
+
+
+def _callback(progress: Optional[Callable[[float], bool]]):
+    return _PROGRESS(0) if progress is None else _PROGRESS(lambda f, _u: 1 if progress(f) else 0)
+
+
+def run_subject(config: Dict[str, Any], out_dir: Optional[str] = None,
+                progress: Optional[Callable[[float], bool]] = None) -> Dict[str, Any]:
+    """One subject end to end (README: subject config); returns the subject document."""
+    p = ctypes.c_void_p()
+    _check(library().cpx_subject_run(json.dumps(config).encode(), None if out_dir is None else str(out_dir).encode(),
+                                     _callback(progress), None, ctypes.byref(p)))
+    return json.loads(_take_string(p))
+
+
+def run_cohort(manifest: str, config: Dict[str, Any], out_dir: str, workers: int = 0, force: bool = False,
+               progress: Optional[Callable[[float], bool]] = None) -> Dict[str, Any]:
+    """Every subject of a manifest TSV; returns the run summary (done, skipped, failed)."""
+    p = ctypes.c_void_p()
+    opts = json.dumps({"workers": workers, "force": force}).encode()
+    _check(library().cpx_cohort_run(str(manifest).encode(), json.dumps(config).encode(), str(out_dir).encode(), opts,
+                                    _callback(progress), None, ctypes.byref(p)))
+    return json.loads(_take_string(p))
+
+
+def compare(results_dir: str, **options) -> Dict[str, Any]:
+    """Group comparison of a cohort run's folder (README: compare options)."""
+    p = ctypes.c_void_p()
+    _check(library().cpx_cohort_compare(str(results_dir).encode(), _options(options or None), ctypes.byref(p)))
+    return json.loads(_take_string(p))
+
+
+def report(results_dir: str, **options) -> str:
+    """Writes the HTML report of a compared cohort; returns its path."""
+    p = ctypes.c_void_p()
+    _check(library().cpx_cohort_report(str(results_dir).encode(), _options(options or None), ctypes.byref(p)))
+    return _take_string(p)
+
+
+def simulate_study(out_dir: str, **options) -> Dict[str, Any]:
+    """Writes an invented two-group study (time series, manifest, config) into out_dir."""
+    p = ctypes.c_void_p()
+    _check(library().cpx_simulate_study(_options(options or None), str(out_dir).encode(), ctypes.byref(p)))
+    return json.loads(_take_string(p))
