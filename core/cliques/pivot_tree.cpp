@@ -13,11 +13,14 @@
 
 namespace critplex::cliques {
 
-BitGraph::BitGraph(std::size_t nodes) : nodes_(nodes), words_((nodes + 63) / 64), bits_(nodes * words_, 0) {}
+BitGraph::BitGraph(std::size_t nodes)
+    : degree_(nodes, 0), nodes_(nodes), words_((nodes + 63) / 64), bits_(nodes * words_, 0) {}
 
 void BitGraph::add_edge(std::uint32_t u, std::uint32_t v) {
   bits_[u * words_ + v / 64] |= std::uint64_t{1} << (v % 64);
   bits_[v * words_ + u / 64] |= std::uint64_t{1} << (u % 64);
+  ++degree_[u];
+  ++degree_[v];
 }
 
 void IntervalTally::add_leaf(std::size_t h, std::size_t p) {
@@ -175,9 +178,28 @@ void LinkCounter::walk(std::size_t depth, std::size_t lo, std::size_t hi, std::s
     return;
   }
 
+  if (chi_only_) {
+    // Cheap first try: the candidate of highest degree in the whole graph is often
+    // joined to all the others, and then the link is a cone (see below).
+    std::size_t hub = 0;
+    std::uint32_t hub_degree = 0;
+    for (std::size_t w = lo; w < hi; ++w)
+      for (std::uint64_t bits = set[w]; bits; bits &= bits - 1) {
+        const std::size_t x = w * 64 + static_cast<std::size_t>(std::countr_zero(bits));
+        if (g_->degree(x) >= hub_degree) {
+          hub = x;
+          hub_degree = g_->degree(x);
+        }
+      }
+    const std::uint64_t* nbr = row(hub);
+    std::size_t d = 0;
+    for (std::size_t i = lo; i < hi; ++i) d += static_cast<std::size_t>(std::popcount(nbr[i] & set[i]));
+    if (d + 1 == size) return;
+  }
+
   // Pivot: the candidate with the most neighbours among the candidates (first on ties).
   std::size_t pivot = 0, best = 0, degree_sum = 0;
-  bool found = false;
+  bool found = false, universal = false;
   for (std::size_t w = lo; w < hi; ++w) {
     for (std::uint64_t bits = set[w]; bits; bits &= bits - 1) {
       const std::size_t x = w * 64 + static_cast<std::size_t>(std::countr_zero(bits));
@@ -192,8 +214,14 @@ void LinkCounter::walk(std::size_t depth, std::size_t lo, std::size_t hi, std::s
       degree_sum += d;
       // A node joined to every other candidate makes the link a cone: its reduced
       // Euler characteristic is 0, so chi gains nothing from here.
-      if (chi_only_ && d + 1 == size) return;
+      if (d + 1 == size) {
+        if (chi_only_) return;
+        pivot = x;  // joined to every other candidate: no branch but the pivot's
+        universal = true;
+        break;
+      }
     }
+    if (universal) break;
   }
 
   std::uint64_t* child = sets_.data() + (depth + 1) * lw_;
@@ -211,7 +239,7 @@ void LinkCounter::walk(std::size_t depth, std::size_t lo, std::size_t hi, std::s
   };
 
   if (!chi_only_) {
-    if (degree_sum == size * (size - 1)) {
+    if (!universal && degree_sum == size * (size - 1)) {
       // The candidates form a clique: one leaf with all of them as pivots.
       if (node_counts_)
         for (std::size_t w = lo; w < hi; ++w)

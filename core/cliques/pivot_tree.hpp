@@ -19,8 +19,10 @@ class BitGraph {
   std::size_t words() const { return words_; }
   const std::uint64_t* row(std::size_t x) const { return bits_.data() + x * words_; }
   void add_edge(std::uint32_t u, std::uint32_t v);
+  std::uint32_t degree(std::size_t x) const { return degree_[x]; }
 
  private:
+  std::vector<std::uint32_t> degree_;
   std::size_t nodes_;
   std::size_t words_;                  // words of a global row
   const std::uint64_t* rows_ = nullptr;  // adjacency rows the walk reads (global or local)
