@@ -150,10 +150,8 @@ double student_t_quantile(double probability, double df) {
   return 0.5 * (lo + hi);
 }
 
-double percentile(std::vector<double> values, double q) {
-  if (values.empty()) fail(ErrorKind::data, "percentile of an empty sample");
-  if (!(q >= 0.0 && q <= 100.0)) fail(ErrorKind::argument, "percentile must be in [0, 100], got " + std::to_string(q));
-  std::sort(values.begin(), values.end());
+// numpy's linear percentile of values already in increasing order.
+static double percentile_of_sorted(const std::vector<double>& values, double q) {
   const double h = static_cast<double>(values.size() - 1) * q / 100.0;
   const auto lo = static_cast<std::size_t>(std::floor(h));
   const std::size_t hi = std::min(lo + 1, values.size() - 1);
@@ -161,6 +159,13 @@ double percentile(std::vector<double> values, double q) {
   // numpy's lerp: the form used depends on the side of 0.5, for symmetry.
   const double a = values[lo], b = values[hi];
   return w >= 0.5 ? b - (b - a) * (1.0 - w) : a + (b - a) * w;
+}
+
+double percentile(std::vector<double> values, double q) {
+  if (values.empty()) fail(ErrorKind::data, "percentile of an empty sample");
+  if (!(q >= 0.0 && q <= 100.0)) fail(ErrorKind::argument, "percentile must be in [0, 100], got " + std::to_string(q));
+  std::sort(values.begin(), values.end());
+  return percentile_of_sorted(values, q);
 }
 
 std::vector<double> benjamini_hochberg(const std::vector<double>& p) {
@@ -339,22 +344,26 @@ Band bootstrap_mean_band(const Eigen::MatrixXd& curves, const BootstrapOptions& 
   band.mean.resize(static_cast<std::size_t>(points));
   for (Eigen::Index j = 0; j < points; ++j) band.mean[static_cast<std::size_t>(j)] = curves.col(j).mean();
   const auto resamples = static_cast<Eigen::Index>(options.resamples);
-  Eigen::MatrixXd means(resamples, points);  // resample x point
+  // Subjects as columns and resamples as columns, so every inner loop runs over
+  // contiguous memory (Eigen is column-major).
+  const Eigen::MatrixXd by_subject = curves.transpose();
+  Eigen::MatrixXd means(points, resamples);
   Random random(options.seed);
-  Eigen::RowVectorXd sum(points);
   for (Eigen::Index r = 0; r < resamples; ++r) {
+    auto sum = means.col(r);
     sum.setZero();
-    for (Eigen::Index i = 0; i < n; ++i) sum += curves.row(static_cast<Eigen::Index>(random.below(static_cast<std::uint64_t>(n))));
-    means.row(r) = sum / static_cast<double>(n);
+    for (Eigen::Index i = 0; i < n; ++i) sum += by_subject.col(static_cast<Eigen::Index>(random.below(static_cast<std::uint64_t>(n))));
+    sum /= static_cast<double>(n);
   }
   const double alpha = (1.0 - options.confidence) / 2.0;
   band.lower.resize(band.mean.size());
   band.upper.resize(band.mean.size());
   std::vector<double> column(static_cast<std::size_t>(resamples));
   for (Eigen::Index j = 0; j < points; ++j) {
-    for (Eigen::Index r = 0; r < resamples; ++r) column[static_cast<std::size_t>(r)] = means(r, j);
-    band.lower[static_cast<std::size_t>(j)] = percentile(column, alpha * 100.0);
-    band.upper[static_cast<std::size_t>(j)] = percentile(column, (1.0 - alpha) * 100.0);
+    for (Eigen::Index r = 0; r < resamples; ++r) column[static_cast<std::size_t>(r)] = means(j, r);
+    std::sort(column.begin(), column.end());
+    band.lower[static_cast<std::size_t>(j)] = percentile_of_sorted(column, alpha * 100.0);
+    band.upper[static_cast<std::size_t>(j)] = percentile_of_sorted(column, (1.0 - alpha) * 100.0);
   }
   return band;
 }
