@@ -85,7 +85,7 @@ class AgainstMpmath(unittest.TestCase):
             if n == 1000:
                 self.assertTrue(all(v["chi_reliable"] for v in res["values"] if v["p"] <= 0.9))
 
-    def test_zeros_against_findroot(self):
+    def test_zeros_are_sign_changes_at_50_digits(self):
         for n in (50, 200, 1000):
             res = expectations(n, [], max_p=0.8, scan_points=1500)
             zeros = res["zeros"]
