@@ -86,8 +86,7 @@ cpx_status cpx_sweep_curve(const cpx_sweep* sweep, const char* column, double* b
       fail(ErrorKind::argument, "argument 'buffer_length' is " + std::to_string(buffer_length) + " but the grid has " +
                                     std::to_string(r.rows.size()) + " points");
     for (std::size_t i = 0; i < r.rows.size(); ++i) {
-      const std::string& cell = r.rows[i][c];
-      buffer[i] = cell == "NaN" || cell.empty() ? std::nan("") : std::strtod(cell.c_str(), nullptr);
+      buffer[i] = pipeline::curve_cell_value(r.rows[i][c]);
     }
   });
 }

@@ -26,7 +26,7 @@ std::vector<double> column(const SweepResult& s, const std::string& name) {
   for (std::size_t c = 0; c < s.columns.size(); ++c)
     if (s.columns[c] == name) {
       std::vector<double> v;
-      for (const auto& row : s.rows) v.push_back(std::strtod(row[c].c_str(), nullptr));
+      for (const auto& row : s.rows) v.push_back(curve_cell_value(row[c]));
       return v;
     }
   fail(ErrorKind::internal, "sweep has no column \"" + name + "\"");

@@ -85,7 +85,9 @@ SweepOptions parse_sweep_options(const Json& options) {
       o.grid.step = g->get<double>();
     } else if (g->is_array()) {
       o.grid.kind = "list";
-      OptionReader list_reader(Json{{"densities", *g}}, "sweep options: grid");
+      // OptionReader keeps a reference: the wrapper object must outlive it.
+      const Json wrapped{{"densities", *g}};
+      OptionReader list_reader(wrapped, "sweep options: grid");
       o.grid.values = list_reader.numbers("densities");
     } else if (g->is_object()) {
       OptionReader gr(*g, "sweep options: grid");
@@ -227,12 +229,19 @@ std::string sweep_curves_tsv(const SweepResult& result) {
   return s;
 }
 
+double curve_cell_value(const std::string& cell) {
+  if (cell.empty()) return std::nan("");
+  char* end = nullptr;
+  const double x = std::strtod(cell.c_str(), &end);
+  return end == cell.c_str() + cell.size() && std::isfinite(x) ? x : std::nan("");
+}
+
 Json sweep_curves_json(const SweepResult& result) {
   Json j = Json::object();
   for (std::size_t c = 0; c < result.columns.size(); ++c) {
     Json values = Json::array();
     for (const auto& row : result.rows) {
-      const double x = std::strtod(row[c].c_str(), nullptr);
+      const double x = curve_cell_value(row[c]);
       values.push_back(std::isfinite(x) ? Json(x) : Json(nullptr));
     }
     j[result.columns[c]] = std::move(values);

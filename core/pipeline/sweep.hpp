@@ -45,5 +45,7 @@ std::string sweep_curves_tsv(const SweepResult& result);
 // The grid curves as {column: [numbers]} (null where not a number; integers beyond 2^53
 // are rounded here, the engine sections keep them exact).
 Json sweep_curves_json(const SweepResult& result);
+// A curve cell as a number: NaN unless the whole text is a number ("NA", "NaN", "").
+double curve_cell_value(const std::string& cell);
 
 }  // namespace critplex::pipeline
