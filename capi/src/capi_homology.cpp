@@ -13,20 +13,8 @@ using namespace critplex::capi;
 
 namespace {
 
-// The sweep's "homology" section, through the public call (the handle's layout is
-// private to capi_sweep.cpp).
 Json homology_section(const cpx_sweep* sweep) {
-  char* text = nullptr;
-  const cpx_status status = cpx_sweep_json(sweep, &text);
-  if (status != CPX_OK) {
-    std::string message = cpx_last_error();
-    fail(static_cast<ErrorKind>(static_cast<int>(status)), message);
-  }
-  std::unique_ptr<char, decltype(&cpx_string_free)> owner(text, cpx_string_free);
-  Json doc = Json::parse(text);
-  if (!doc.contains("homology"))
-    fail(ErrorKind::argument, "argument 'sweep' was run without a \"homology\" section in its options");
-  return doc["homology"];
+  return sweep_section(sweep, "homology", "a \"homology\" section");
 }
 
 double number_or(const Json& v, double missing) { return v.is_number() ? v.get<double>() : missing; }

@@ -6,12 +6,25 @@
 #include "handles.hpp"
 #include "pipeline/sweep.hpp"
 
-struct cpx_sweep {
-  critplex::pipeline::SweepResult value;
-};
-
 using namespace critplex;
 using namespace critplex::capi;
+
+namespace critplex::capi {
+
+Json sweep_document(const cpx_sweep* sweep) {
+  require_pointer(sweep, "sweep");
+  return pipeline::sweep_to_json(sweep->value);
+}
+
+const Json& sweep_section(const cpx_sweep* sweep, const std::string& engine, const std::string& needed_option) {
+  require_pointer(sweep, "sweep");
+  const auto& sections = sweep->value.sections;
+  if (!sections.contains(engine))
+    fail(ErrorKind::argument, "argument 'sweep' was run without " + needed_option + " in its options");
+  return sections.at(engine);
+}
+
+}  // namespace critplex::capi
 
 namespace {
 std::size_t column_index(const pipeline::SweepResult& r, const std::string& name) {

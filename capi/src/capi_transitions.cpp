@@ -13,18 +13,6 @@ using namespace critplex::capi;
 
 namespace {
 
-// The sweep's JSON document, through the public call (the handle's layout is private to
-// capi_sweep.cpp).
-Json sweep_document(const cpx_sweep* sweep) {
-  char* text = nullptr;
-  const cpx_status status = cpx_sweep_json(sweep, &text);
-  if (status != CPX_OK) {
-    std::string message = cpx_last_error();
-    fail(static_cast<ErrorKind>(static_cast<int>(status)), message);
-  }
-  std::unique_ptr<char, decltype(&cpx_string_free)> owner(text, cpx_string_free);
-  return Json::parse(text);
-}
 
 double value_or_nan(const Json& v) { return v.is_number() ? v.get<double>() : std::nan(""); }
 

@@ -4,6 +4,7 @@
 #include <critplex/critplex.h>
 
 #include "connectivity/matrix.hpp"
+#include "pipeline/sweep.hpp"
 #include "series/series.hpp"
 
 struct cpx_series {
@@ -14,7 +15,17 @@ struct cpx_matrix {
   critplex::connectivity::Matrix value;
 };
 
+struct cpx_sweep {
+  critplex::pipeline::SweepResult value;
+};
+
 namespace critplex::capi {
+
+// The whole sweep result as the JSON document cpx_sweep_json returns.
+Json sweep_document(const cpx_sweep* sweep);
+// One engine's section ("homology", "transitions", ...); an argument error naming
+// `needed_option` when the sweep ran without it.
+const Json& sweep_section(const cpx_sweep* sweep, const std::string& engine, const std::string& needed_option);
 
 // Copies a rows x columns array given in `layout` into an Eigen matrix.
 Eigen::MatrixXd import_array(const double* data, std::size_t rows, std::size_t columns, cpx_layout layout);
