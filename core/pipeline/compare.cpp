@@ -73,14 +73,19 @@ SubjectData load_subject(const std::string& path, const std::string& band_name) 
       const auto& zeros = t["chi_zeros"];
       for (std::size_t k = 1; k < std::min<std::size_t>(zeros.size(), 3); ++k)
         s.summaries["chi zero " + std::to_string(k + 1) + " (density)"] = number_or_nan(zeros[k].value("density", Json()));
-      if (!zeros.empty() && zeros[0].contains("curvature") && zeros[0]["curvature"].is_object()) {
-        const Json& c = zeros[0]["curvature"];
-        s.summaries["kappa mean at first chi zero"] = number_or_nan(c.value("kappa_mean", Json()));
-        s.summaries["kappa sd at first chi zero"] = number_or_nan(c.value("kappa_sd", Json()));
-        s.summaries["kappa skewness at first chi zero"] = number_or_nan(c.value("kappa_skewness", Json()));
-        s.summaries["Forman mean at first chi zero"] = number_or_nan(c.value("forman_mean", Json()));
-      }
     }
+    // Curvature moments at the first chi zero, from the summary record. The mean is left
+    // out: by Gauss-Bonnet it equals chi / N, which is 0 at a zero of chi.
+    if (t.contains("summary") && t["summary"].is_array())
+      for (const auto& record : t["summary"])
+        if (record.value("kind", "") == "chi_zero" && record.contains("curvature") && record["curvature"].is_object()) {
+          const Json& c = record["curvature"];
+          s.summaries["kappa sd at first chi zero"] = number_or_nan(c.value("kappa_sd", Json()));
+          s.summaries["kappa skewness at first chi zero"] = number_or_nan(c.value("kappa_skewness", Json()));
+          s.summaries["kappa kurtosis at first chi zero"] = number_or_nan(c.value("kappa_kurtosis", Json()));
+          s.summaries["Forman mean at first chi zero"] = number_or_nan(c.value("forman_mean", Json()));
+          break;
+        }
     if (t.contains("betti_peaks") && t["betti_peaks"].is_array())
       for (const auto& p : t["betti_peaks"]) {
         const auto k = p.value("k", std::size_t{0});
