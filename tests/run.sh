@@ -10,7 +10,7 @@ jobs="$(nproc 2>/dev/null || echo 2)"
 bash cmake/install-deps.sh --reference
 
 echo "== build (Release) =="
-cmake -S . -B build -DCMAKE_BUILD_TYPE=Release
+cmake -S . -B build -DCMAKE_BUILD_TYPE=Release -DCRITPLEX_BUILD_BENCH=OFF
 cmake --build build -j"$jobs"
 echo "== tests =="
 ctest --test-dir build --output-on-failure -j"$jobs"
