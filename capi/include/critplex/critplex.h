@@ -63,7 +63,10 @@ typedef enum cpx_status {
 
 typedef enum cpx_layout {
   CPX_ROW_MAJOR = 0,   /* element (i, j) at i * columns + j */
-  CPX_COL_MAJOR = 1    /* element (i, j) at j * rows + i */
+  CPX_COL_MAJOR = 1,   /* element (i, j) at j * rows + i */
+  /* Not a layout: widens the enum to a full int so that any value a caller passes is a
+   * valid value of the type, and the library can refuse it with CPX_ERR_ARGUMENT. */
+  CPX_LAYOUT_INT_RANGE_ = 0x7fffffff
 } cpx_layout;
 
 /* Progress: fraction in [0, 1]; return non-zero to cancel. */
