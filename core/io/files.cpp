@@ -8,6 +8,7 @@
 #include <cmath>
 #include <cstdio>
 #include <cstring>
+#include <filesystem>
 #include <fstream>
 #include <sstream>
 
@@ -43,6 +44,12 @@ void write_file_atomically(const std::string& path, const std::string& bytes) {
     std::remove(tmp.c_str());
     fail(ErrorKind::io, "cannot write '" + path + "': " + std::strerror(e));
   }
+}
+
+void make_folders(const std::string& dir) {
+  std::error_code ec;
+  std::filesystem::create_directories(dir, ec);
+  if (ec) fail(ErrorKind::io, "cannot create folder '" + dir + "': " + ec.message());
 }
 
 std::string detect_format(const std::string& path) {

@@ -17,6 +17,8 @@ std::string read_file(const std::string& path);
 // Writes through a temporary file in the same folder, renamed into place, so a reader
 // never sees a half-written file and a failure leaves nothing behind.
 void write_file_atomically(const std::string& path, const std::string& bytes);
+// Creates a folder and its parents (nothing if it exists); ErrorKind::io naming it.
+void make_folders(const std::string& dir);
 
 // A numeric table from TSV, CSV, whitespace-separated text or NPY.
 struct Table {

@@ -40,12 +40,6 @@ std::vector<std::string> split_tabs(const std::string& line) {
   return cells;
 }
 
-void make_folder(const std::string& dir) {
-  std::error_code ec;
-  std::filesystem::create_directories(dir, ec);
-  if (ec) fail(ErrorKind::io, "cannot create folder '" + dir + "': " + ec.message());
-}
-
 // The fingerprint stored in a finished subject's document, or "" when there is none.
 std::string finished_fingerprint(const std::string& path) {
   struct stat st;
@@ -164,7 +158,7 @@ CohortSummary run_cohort(const std::string& manifest_path, const Json& config, c
                          "): " + e.what());
     }
   }
-  make_folder(out_dir);
+  io::make_folders(out_dir);
   io::write_file_atomically(out_dir + "/cohort_config.json", config.dump(1) + "\n");
   io::write_file_atomically(out_dir + "/manifest.tsv", io::read_file(manifest_path));
 

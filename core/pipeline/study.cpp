@@ -14,12 +14,6 @@
 namespace critplex::pipeline {
 
 namespace {
-void make_folder(const std::string& dir) {
-  std::error_code ec;
-  std::filesystem::create_directories(dir, ec);
-  if (ec) fail(ErrorKind::io, "cannot create folder '" + dir + "': " + ec.message());
-}
-
 std::string series_tsv(const series::Series& s) {
   std::string out;
   for (std::size_t j = 0; j < s.names.size(); ++j) out += (j ? "\t" : "") + s.names[j];
@@ -53,8 +47,8 @@ Json write_simulated_study(const Json& options, const std::string& dir) {
   if (config.is_object() && config.contains("connect") && config["connect"].is_object() &&
       !config["connect"].contains("sampling_interval"))
     config["connect"]["sampling_interval"] = model.sampling_interval;
-  make_folder(dir);
-  make_folder(dir + "/timeseries");
+  io::make_folders(dir);
+  io::make_folders(dir + "/timeseries");
   std::string manifest = "subject\tgroup\ttimeseries\tage\n";
   Json subjects = Json::array();
   for (std::size_t i = 0; i < plan.subjects.size(); ++i) {

@@ -7,14 +7,7 @@
 #include <stdlib.h>
 #include <string.h>
 
-static int failures = 0;
-#define EXPECT(cond)                                                      \
-  do {                                                                    \
-    if (!(cond)) {                                                        \
-      fprintf(stderr, "%s:%d: expected %s\n", __FILE__, __LINE__, #cond); \
-      failures++;                                                         \
-    }                                                                     \
-  } while (0)
+#include "check.h"
 
 int main(void) {
   /* Invented test input: 4 channels at 100 Hz, a 10 Hz rhythm with lags plus a 25 Hz one. */

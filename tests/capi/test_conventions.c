@@ -7,14 +7,7 @@
 #include <stdio.h>
 #include <string.h>
 
-static int failures = 0;
-#define EXPECT(cond)                                                      \
-  do {                                                                    \
-    if (!(cond)) {                                                        \
-      fprintf(stderr, "%s:%d: expected %s\n", __FILE__, __LINE__, #cond); \
-      failures++;                                                         \
-    }                                                                     \
-  } while (0)
+#include "check.h"
 
 static void* error_in_thread(void* arg) {
   /* Each thread sees only its own last error. */

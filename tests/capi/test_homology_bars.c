@@ -9,14 +9,7 @@
 #include <stdlib.h>
 #include <string.h>
 
-static int failures = 0;
-#define EXPECT(cond)                                                      \
-  do {                                                                    \
-    if (!(cond)) {                                                        \
-      fprintf(stderr, "%s:%d: expected %s\n", __FILE__, __LINE__, #cond); \
-      failures++;                                                         \
-    }                                                                     \
-  } while (0)
+#include "check.h"
 
 int main(void) {
   enum { N = 6 };
