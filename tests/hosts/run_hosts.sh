@@ -1,6 +1,6 @@
 #!/usr/bin/env bash
 # Builds the host bindings against an installed critplex and runs their tests:
-#   run_hosts.sh BUILD_DIR r|octave
+#   run_hosts.sh BUILD_DIR r|octave|nipype|snakemake
 set -euo pipefail
 build_dir="$1"
 host="$2"
@@ -33,6 +33,11 @@ case "$host" in
       $(pkg-config --cflags --libs critplex) -Wl,-rpath,"$libdir" >/dev/null
     octave --no-gui --no-window-system --quiet --eval \
       "addpath('$build_dir/hosts-octave'); addpath('$src/plugins/matlab'); run('$here/test_matlab.m')"
+    ;;
+  nipype|snakemake)
+    # The workflow engines call the installed command, as a site's pipeline would.
+    export PATH="$prefix/bin:$PATH"
+    /usr/bin/python3 "$here/test_$host.py" "$build_dir/hosts-$host/work"
     ;;
   *) echo "unknown host '$host'" >&2; exit 2 ;;
 esac
