@@ -24,6 +24,10 @@ import time
 
 import numpy as np
 
+# Edge order, ripser input and output parsing shared with the homology reference test.
+sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), "..", "reference"))
+from ripser_ranks import edge_order, parse_intervals, write_rank_matrix  # noqa: E402
+
 
 def brain_like(n, frames=600, modules=7, seed=1):
     rng = np.random.default_rng(seed)
@@ -38,48 +42,6 @@ def brain_like(n, frames=600, modules=7, seed=1):
     series += 0.3 * factors[:, [modules]]
     series += rng.standard_normal((frames, n)) * 1.0
     return np.corrcoef(series.T)
-
-
-def edge_order(matrix, max_density):
-    """Edges in entry order (METHODS.md: decreasing weight, ties by (i, j)), positive mode."""
-    n = matrix.shape[0]
-    iu, ju = np.triu_indices(n, 1)
-    w = matrix[iu, ju]
-    keep = w > 0
-    iu, ju, w = iu[keep], ju[keep], w[keep]
-    order = np.lexsort((ju, iu, -w))
-    iu, ju, w = iu[order], ju[order], w[order]
-    pairs = n * (n - 1) // 2
-    want = min(int(np.ceil(max_density * pairs - 1e-9)), len(w))
-    while 0 < want < len(w) and w[want] == w[want - 1]:
-        want += 1
-    return iu[:want], ju[:want]
-
-
-def ripser_input(n, iu, ju, path):
-    m = len(iu)
-    d = np.full((n, n), m + 10, dtype=np.int64)
-    d[iu, ju] = np.arange(1, m + 1)
-    d[ju, iu] = np.arange(1, m + 1)
-    with open(path, "w") as f:
-        for i in range(1, n):
-            f.write(",".join(str(x) for x in d[i, :i]) + "\n")
-    return m
-
-
-def parse_ripser(text):
-    bars = []
-    dim = None
-    for line in text.splitlines():
-        h = re.match(r"persistence intervals in dim (\d+):", line)
-        if h:
-            dim = int(h.group(1))
-            continue
-        b = re.match(r"\s*\[([^,]+),([^)]*)\)", line)
-        if b and dim is not None:
-            death = b.group(2).strip()
-            bars.append((dim, int(float(b.group(1))), "inf" if death == "" else int(float(death))))
-    return sorted(bars, key=str)
 
 
 def timed(command):
@@ -132,9 +94,9 @@ def main():
             matrix = brain_like(n, seed=n)
             mpath = os.path.join(tmp, f"m{n}.tsv")
             np.savetxt(mpath, matrix, delimiter="\t", fmt="%.17g")
-            iu, ju = edge_order(matrix, rho)
+            iu, ju, _ = edge_order(matrix, rho)
             rpath = os.path.join(tmp, "ranks.txt")
-            m = ripser_input(n, iu, ju, rpath)
+            m = write_rank_matrix(n, iu, ju, rpath)
             bars_path = os.path.join(tmp, "bars.txt")
             _, t_ours, mem_ours = timed([ours, "--ranks", rpath, "--threshold", str(m), "--dim", str(k),
                                          "--threads", "1", "--bars", bars_path])
@@ -145,8 +107,8 @@ def main():
             mine = []
             for line in open(bars_path):
                 d, b, e = line.split()
-                mine.append((int(d), int(b), "inf" if e == "inf" else int(e)))
-            equal = sorted(mine, key=str) == parse_ripser(out)
+                mine.append((int(d), int(b), None if e == "inf" else int(e)))
+            equal = sorted(mine, key=repr) == parse_intervals(out)
             g_text, g_ratio = "-", "-"
             if gudhi and (n, rho, k) in [(200, 0.1, 2), (200, 0.2, 2), (400, 0.1, 2)]:
                 gpath = os.path.join(tmp, "edges.npz")

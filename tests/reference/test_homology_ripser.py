@@ -14,56 +14,25 @@ ties broken by (i, j)), independently of the library.
 """
 import json
 import os
-import re
 import subprocess
 import tempfile
 import unittest
 
 import numpy as np
 
+from ripser_ranks import edge_order, parse_intervals, write_rank_matrix
+
 CLI = os.environ.get("CRITPLEX_CLI")
 NITIME_CSV = "/usr/lib/python3/dist-packages/nitime/data/fmri_timeseries.csv"
 
 
-def edge_order(matrix, max_density=1.0):
-    """Edges in entry order, positive mode (METHODS.md), cut at max_density with the
-    last tie group kept whole (as the library documents)."""
-    n = matrix.shape[0]
-    iu, ju = np.triu_indices(n, 1)
-    w = matrix[iu, ju]
-    keep = w > 0
-    iu, ju, w = iu[keep], ju[keep], w[keep]
-    order = np.lexsort((ju, iu, -w))
-    iu, ju, w = iu[order], ju[order], w[order]
-    pairs = n * (n - 1) // 2
-    want = min(int(np.ceil(max_density * pairs - 1e-9)), len(w))
-    while 0 < want < len(w) and w[want] == w[want - 1]:
-        want += 1
-    return iu[:want], ju[:want], w[:want]
-
-
 def ripser_bars(n, iu, ju, dim, tmp):
     """reference: the ripser command (Debian package ripser), lower-distance ranks."""
-    m = len(iu)
-    d = np.full((n, n), m + 10, dtype=np.int64)
-    d[iu, ju] = d[ju, iu] = np.arange(1, m + 1)
     path = os.path.join(tmp, "ranks.txt")
-    with open(path, "w") as f:
-        for i in range(1, n):
-            f.write(",".join(str(x) for x in d[i, :i]) + "\n")
+    m = write_rank_matrix(n, iu, ju, path)
     out = subprocess.run(["ripser", "--format", "lower-distance", "--threshold", str(m), "--dim", str(dim), path],
                          capture_output=True, text=True, check=True).stdout
-    bars, current = [], None
-    for line in out.splitlines():
-        h = re.match(r"persistence intervals in dim (\d+):", line)
-        if h:
-            current = int(h.group(1))
-            continue
-        b = re.match(r"\s*\[([^,]+),([^)]*)\)", line)
-        if b and current is not None:
-            death = b.group(2).strip()
-            bars.append((current, int(float(b.group(1))), None if death == "" else int(float(death))))
-    return sorted(bars, key=repr)
+    return parse_intervals(out)
 
 
 def gudhi_tree(n, iu, ju, dim):
