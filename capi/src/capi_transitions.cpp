@@ -25,11 +25,13 @@ cpx_status cpx_sweep_node_curvature(const cpx_sweep* sweep, cpx_layout layout, d
   return guard("cpx_sweep_node_curvature", [&] {
     require_pointer(sweep, "sweep");
     check_layout(layout);
-    const Json doc = sweep_document(sweep);
-    if (!doc.contains("curvature") || !doc["curvature"].contains("node_kappa"))
+    // Only the curvature section is read: building the whole sweep document would copy
+    // every curve of the sweep to read one table.
+    const Json& section = sweep_section(sweep, "curvature", "a \"curvature\" section");
+    if (!section.contains("node_kappa"))
       fail(ErrorKind::argument, "argument 'sweep' has no node curvature (run it with a \"curvature\" section and "
                                 "\"node_curves\": true)");
-    const Json& values = doc["curvature"]["node_kappa"]["values"];  // [node][point]
+    const Json& values = section["node_kappa"]["values"];  // [node][point]
     const std::size_t n = values.size();
     const std::size_t g = n == 0 ? 0 : values[0].size();
     if (points) *points = g;
@@ -48,10 +50,8 @@ cpx_status cpx_sweep_transitions_tsv(const cpx_sweep* sweep, char** tsv) {
   return guard("cpx_sweep_transitions_tsv", [&] {
     require_pointer(sweep, "sweep");
     require_pointer(tsv, "tsv");
-    const Json doc = sweep_document(sweep);
-    if (!doc.contains("transitions"))
-      fail(ErrorKind::argument, "argument 'sweep' has no transitions (they need chi or Betti curves)");
-    *tsv = copy_string(transitions::summary_tsv(doc["transitions"]));
+    const Json& section = sweep_section(sweep, "transitions", "transitions (they need chi or Betti curves)");
+    *tsv = copy_string(transitions::summary_tsv(section));
   });
 }
 
