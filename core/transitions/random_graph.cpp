@@ -180,18 +180,72 @@ RandomGraphZeros random_graph_zeros(std::size_t nodes, double max_p, std::size_t
   RandomGraphZeros out;
   out.scan_points = scan_points;
   // Scan grid: half log-spaced from 0.01/N to 0.1, half linear from 0.1 to max_p.
-  std::vector<double> grid;
+  std::vector<double> scan;
   const double low = std::min(0.01 / static_cast<double>(nodes), max_p / 2);
   const double middle = std::min(0.1, max_p);
   const std::size_t half = scan_points / 2;
   for (std::size_t i = 0; i < half; ++i)
-    grid.push_back(low * std::pow(middle / low, static_cast<double>(i) / static_cast<double>(half)));
+    scan.push_back(low * std::pow(middle / low, static_cast<double>(i) / static_cast<double>(half)));
   const std::size_t rest = scan_points - half;
   for (std::size_t i = 0; i <= rest; ++i)
-    grid.push_back(middle + (max_p - middle) * static_cast<double>(i) / static_cast<double>(rest));
-  grid.erase(std::unique(grid.begin(), grid.end()), grid.end());
+    scan.push_back(middle + (max_p - middle) * static_cast<double>(i) / static_cast<double>(rest));
 
-  auto find = [&](auto&& evaluate, std::vector<double>& zeros, std::vector<int>& directions) {
+  // Both sums change sign where the leading term hands over to the next one: the
+  // ratio of adjacent terms, (N-k)/(k+1) p^k for chi and (M-k)/(k+2) p^(k+1) for kappa
+  // (M = N-1), crosses 1 at p_k. Those crossovers and the points halfway between them
+  // (in log p, where one term dominates) join the scan, so each hand-over is bracketed
+  // however close the zeros crowd as p grows, not only those wider than the scan spacing.
+  auto with_crossovers = [&](bool kappa) {
+    std::vector<double> grid = scan;
+    const std::size_t m = kappa ? nodes - 1 : nodes;
+    double previous = 0.0;
+    for (std::size_t k = 1; k < m; ++k) {
+      const double exponent = static_cast<double>(kappa ? k + 1 : k);
+      const double ratio = static_cast<double>(kappa ? k + 2 : k + 1) / static_cast<double>(m - k);
+      const double crossover = std::pow(ratio, 1.0 / exponent);
+      if (!(crossover > low) || !(crossover < max_p)) {
+        if (crossover >= max_p) break;
+        continue;
+      }
+      grid.push_back(crossover);
+      if (previous > 0.0) grid.push_back(std::sqrt(previous * crossover));
+      previous = crossover;
+    }
+    std::sort(grid.begin(), grid.end());
+    grid.erase(std::unique(grid.begin(), grid.end()), grid.end());
+    return grid;
+  };
+
+  // Each bracketed sign change is refined by regula falsi with the Illinois rule (halve
+  // the weight of an end that stays put), which converges superlinearly on these smooth
+  // sums, to double resolution.
+  auto refine = [](auto&& evaluate, double a, double fa, double b, double fb) {
+    int kept = 0;  // which end stayed last time: -1 left, +1 right
+    double c = 0.5 * (a + b);
+    for (int iteration = 0; iteration < 200; ++iteration) {
+      c = b - fb * (b - a) / (fb - fa);
+      if (!(c > a && c < b)) c = 0.5 * (a + b);
+      if (c <= a || c >= b) break;
+      const double fc = evaluate(c).value;
+      if (fc == 0.0) return c;
+      if ((fc > 0) == (fb > 0)) {
+        b = c;
+        fb = fc;
+        if (kept == -1) fa *= 0.5;
+        kept = -1;
+      } else {
+        a = c;
+        fa = fc;
+        if (kept == +1) fb *= 0.5;
+        kept = +1;
+      }
+      if (b - a <= 4e-16 * b) break;
+    }
+    return 0.5 * (a + b);
+  };
+
+  auto find = [&](auto&& evaluate, const std::vector<double>& grid, std::vector<double>& zeros,
+                  std::vector<int>& directions) {
     double reliable_up_to = grid.front();
     double previous_p = grid.front();
     RandomGraphValue previous = evaluate(previous_p);
@@ -202,18 +256,11 @@ RandomGraphZeros random_graph_zeros(std::size_t nodes, double max_p, std::size_t
       if (!v.reliable) break;
       reliable_up_to = p;
       if (v.value != 0.0 && previous.value != 0.0 && (v.value > 0) != (previous.value > 0)) {
-        double a = previous_p, b = p;
-        const bool left_positive = previous.value > 0;
-        for (int iteration = 0; iteration < 200 && b - a > 1e-16 * b; ++iteration) {
-          const double m = 0.5 * (a + b);
-          if (m <= a || m >= b) break;
-          RandomGraphValue vm = evaluate(m);
-          if (vm.value == 0.0) { a = b = m; break; }
-          if ((vm.value > 0) == left_positive) a = m;
-          else b = m;
-        }
-        zeros.push_back(0.5 * (a + b));
-        directions.push_back(left_positive ? -1 : +1);
+        zeros.push_back(refine(evaluate, previous_p, previous.value, p, v.value));
+        directions.push_back(previous.value > 0 ? -1 : +1);
+      } else if (v.value == 0.0) {
+        zeros.push_back(p);
+        directions.push_back(previous.value > 0 ? -1 : +1);
       }
       if (v.value != 0.0) {
         previous = v;
@@ -222,9 +269,10 @@ RandomGraphZeros random_graph_zeros(std::size_t nodes, double max_p, std::size_t
     }
     return reliable_up_to;
   };
-  const double chi_ok = find([&](double p) { return expected_chi(nodes, p); }, out.chi_zeros, out.chi_directions);
-  const double kappa_ok =
-      find([&](double p) { return expected_kappa(nodes, p); }, out.kappa_zeros, out.kappa_directions);
+  const double chi_ok =
+      find([&](double p) { return expected_chi(nodes, p); }, with_crossovers(false), out.chi_zeros, out.chi_directions);
+  const double kappa_ok = find([&](double p) { return expected_kappa(nodes, p); }, with_crossovers(true),
+                               out.kappa_zeros, out.kappa_directions);
   out.reliable_up_to = std::min(chi_ok, kappa_ok);
   return out;
 }

@@ -4,8 +4,8 @@ as computed by critplex in paired binary128 arithmetic, against:
 - python3-mpmath evaluating the same alternating sums to 50 significant digits, for
   N = 50, 200, 1000 over a grid of p (the working precision is raised by the number of
   digits the cancellation costs, up to 30 more at N = 1000, p = 0.95, so that the
-  reference itself keeps 50), and a sign change of that 50-digit function across each zero
-  we report;
+  reference itself keeps 50), a sign change of that 50-digit function across each zero
+  we report, and no sign change between consecutive reported zeros (none missed);
 - a Monte Carlo mean over G(N, p) samples whose cliques are listed by
   networkx.enumerate_all_cliques (Debian python3-networkx): within 3 standard errors.
 """
@@ -100,6 +100,25 @@ class AgainstMpmath(unittest.TestCase):
                     self.assertEqual(direction, -1 if left > 0 else 1)
             for a, b in zip(zeros["chi"], zeros["kappa"]):
                 self.assertAlmostEqual(a, b, delta=1e-13 * a)  # N E[kappa] = E[chi]: same zeros
+
+    def test_no_zero_is_missed_where_they_crowd(self):
+        # Near p = 1 the zeros of E[chi] crowd closer than any fixed scan spacing
+        # (N = 300: about 50 zeros, 0.002 apart near p = 0.96). Between consecutive
+        # reported zeros the 50-digit reference must keep one sign, so none is missing.
+        n = 300
+        res = expectations(n, [], max_p=1.0, scan_points=200)
+        zeros = res["zeros"]
+        top = zeros["reliable_up_to"]
+        self.assertGreater(top, 0.95)
+        self.assertGreater(len(zeros["chi"]), 40)
+        edges = [0.01 / n] + zeros["chi"] + [top]
+        for a, b in zip(edges, edges[1:]):
+            with self.subTest(between=(a, b)):
+                signs = set()
+                for i in range(1, 8):
+                    p = a * (b / a) ** (i / 8)  # log-spaced inside the interval
+                    signs.add(expected_chi_mp(n, p) > 0)
+                self.assertEqual(len(signs), 1, f"E[chi] changes sign between reported zeros {a} and {b}")
 
     def test_bad_arguments(self):
         with self.assertRaises(critplex.CritplexError) as e:
