@@ -102,6 +102,23 @@ std::vector<double> values_of(const Json& entry, const char* key, const std::str
   return v;
 }
 
+// One {"name", "a", "b"} entry of the summaries or covariates list.
+struct NamedPair {
+  std::string name;
+  std::vector<double> a, b;
+};
+NamedPair named_pair(const Json& entry, const std::string& where, const std::string& default_name, bool allow_null) {
+  OptionReader e(entry, where);
+  NamedPair pair;
+  pair.name = e.text("name", default_name);
+  e.raw("a");
+  e.raw("b");
+  e.finish();
+  pair.a = values_of(entry, "a", where, allow_null);
+  pair.b = values_of(entry, "b", where, allow_null);
+  return pair;
+}
+
 }  // namespace
 
 SummaryComparisonInput summaries_from_json(const Json& input, const std::string& where) {
@@ -111,27 +128,21 @@ SummaryComparisonInput summaries_from_json(const Json& input, const std::string&
   if (summaries == nullptr || !summaries->is_array() || summaries->empty())
     fail(ErrorKind::argument, where + ": \"summaries\" must be a non-empty list");
   for (std::size_t s = 0; s < summaries->size(); ++s) {
-    const std::string here = where + ", summaries[" + std::to_string(s) + "]";
-    OptionReader e((*summaries)[s], here);
-    in.names.push_back(e.text("name", "summary " + std::to_string(s + 1)));
-    e.raw("a");
-    e.raw("b");
-    e.finish();
-    in.a.push_back(values_of((*summaries)[s], "a", here, true));
-    in.b.push_back(values_of((*summaries)[s], "b", here, true));
+    NamedPair pair = named_pair((*summaries)[s], where + ", summaries[" + std::to_string(s) + "]",
+                                "summary " + std::to_string(s + 1), true);
+    in.names.push_back(std::move(pair.name));
+    in.a.push_back(std::move(pair.a));
+    in.b.push_back(std::move(pair.b));
   }
   if (const Json* covariates = r.raw("covariates")) {
     if (!covariates->is_array()) fail(ErrorKind::argument, where + ": \"covariates\" must be a list");
     std::vector<std::vector<double>> ca, cb;
     for (std::size_t c = 0; c < covariates->size(); ++c) {
       const std::string here = where + ", covariates[" + std::to_string(c) + "]";
-      OptionReader e((*covariates)[c], here);
-      in.covariate_names.push_back(e.text("name", "covariate " + std::to_string(c + 1)));
-      e.raw("a");
-      e.raw("b");
-      e.finish();
-      ca.push_back(values_of((*covariates)[c], "a", here, false));
-      cb.push_back(values_of((*covariates)[c], "b", here, false));
+      NamedPair pair = named_pair((*covariates)[c], here, "covariate " + std::to_string(c + 1), false);
+      in.covariate_names.push_back(std::move(pair.name));
+      ca.push_back(std::move(pair.a));
+      cb.push_back(std::move(pair.b));
       if (ca.back().size() != ca.front().size() || cb.back().size() != cb.front().size())
         fail(ErrorKind::argument, here + ": lists differ in length from the first covariate's");
     }
