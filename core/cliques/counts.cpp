@@ -9,6 +9,7 @@
 #include <thread>
 
 #include "base/error.hpp"
+#include "cliques/link_euler.hpp"
 #include "cliques/pivot_tree.hpp"
 
 namespace critplex::cliques {
@@ -44,7 +45,10 @@ namespace {
 // Degeneracy order of the graph of all edges to be processed (Matula & Beck; Eppstein,
 // Loffler & Strash 2010): relabelling nodes by it puts the dense core together at the
 // end of every bitset row, so common neighbourhoods span few words.
-std::vector<std::uint32_t> degeneracy_labels(std::size_t n, const std::vector<filtration::Edge>& edges, std::size_t m) {
+// `degeneracy` receives the largest degree a node has when it is removed, so no clique
+// has more than degeneracy + 1 nodes.
+std::vector<std::uint32_t> degeneracy_labels(std::size_t n, const std::vector<filtration::Edge>& edges, std::size_t m,
+                                             std::size_t& degeneracy) {
   std::vector<std::vector<std::uint32_t>> adjacency(n);
   for (std::size_t e = 0; e < m; ++e) {
     adjacency[edges[e].u].push_back(edges[e].v);
@@ -58,6 +62,7 @@ std::vector<std::uint32_t> degeneracy_labels(std::size_t n, const std::vector<fi
   std::vector<char> removed(n, 0);
   std::vector<std::uint32_t> label(n);
   std::size_t next = 0, d = 0;
+  degeneracy = 0;
   while (next < n) {
     d = d > 0 ? d - 1 : 0;
     while (buckets[d].empty()) ++d;
@@ -65,6 +70,7 @@ std::vector<std::uint32_t> degeneracy_labels(std::size_t n, const std::vector<fi
     buckets[d].pop_back();
     if (removed[x] || degree[x] != d) continue;  // stale bucket entry
     removed[x] = 1;
+    degeneracy = std::max(degeneracy, d);
     label[x] = static_cast<std::uint32_t>(next++);
     for (std::uint32_t y : adjacency[x])
       if (!removed[y]) buckets[--degree[y]].push_back(y);
@@ -89,6 +95,7 @@ GridCounts count_on_grid(const filtration::Filtration& f, const std::vector<filt
   result.counts.resize(grid.size());
   result.chi.assign(grid.size(), 0);
   if (o.node_counts) result.node_counts.resize(grid.size());
+  if (o.node_curvature) result.curvature_numerators.resize(grid.size());
 
   // Checkpoints: the distinct edge counts the grid asks for, in increasing order.
   std::vector<std::size_t> checkpoints;
@@ -103,7 +110,13 @@ GridCounts count_on_grid(const filtration::Filtration& f, const std::vector<filt
   };
 
   const std::size_t max_nodes = o.max_dimension < 0 ? 0 : static_cast<std::size_t>(o.max_dimension) + 1;
-  const std::vector<std::uint32_t> label = degeneracy_labels(n, f.edges, total_edges);
+  std::size_t degeneracy = 0;
+  const std::vector<std::uint32_t> label = degeneracy_labels(n, f.edges, total_edges, degeneracy);
+  if (o.node_curvature && o.chi_only)
+    fail(ErrorKind::internal, "clique engine: node curvature needs every clique size, not chi_only");
+  // Curvature shares per leaf shape over one common denominator (pivot_tree.hpp).
+  const CurvatureShares shares = o.node_curvature ? curvature_shares(degeneracy + 1, o.curvature_fixed_point)
+                                                  : CurvatureShares{};
   std::vector<std::uint32_t> original(n);
   for (std::size_t x = 0; x < n; ++x) original[label[x]] = static_cast<std::uint32_t>(x);
 
@@ -155,7 +168,9 @@ GridCounts count_on_grid(const filtration::Filtration& f, const std::vector<filt
     try {
       BitGraph graph(n);
       std::size_t applied = 0;
-      LinkCounter counter(n, o.chi_only, max_nodes, o.node_counts);
+      LinkCounter counter(n, max_nodes, o.node_counts);
+      LinkEuler euler(n);
+      if (o.node_curvature) counter.enable_curvature(shares);
       auto& mine = tallies[t];
       auto add_edge = [&](std::size_t e) { graph.add_edge(label[f.edges[e].u], label[f.edges[e].v]); };
       for (;;) {
@@ -178,6 +193,7 @@ GridCounts count_on_grid(const filtration::Filtration& f, const std::vector<filt
           if (!mine[i]) {
             mine[i] = std::make_unique<IntervalTally>();
             if (o.node_counts) mine[i]->node_delta.resize(n);
+            if (o.node_curvature) mine[i]->curvature.resize(n);
           }
           tally = mine[i].get();
           edge_start_work = tally->work;
@@ -188,7 +204,17 @@ GridCounts count_on_grid(const filtration::Filtration& f, const std::vector<filt
             ++tally->work;
           } else {
             try {
-              counter.count_edge(graph, u, v, *tally, poll);
+              if (o.chi_only) {
+                // chi changes by -f(link) (link_euler.hpp); the edge itself is the
+                // empty clique's term.
+                ++tally->edges;
+                const int128 change = -euler.link_sum(graph, u, v, tally->work, poll);
+                if (change < INT64_MIN || change > INT64_MAX ||
+                    __builtin_add_overflow(tally->chi_delta, static_cast<std::int64_t>(change), &tally->chi_delta))
+                  tally->overflow = true;
+              } else {
+                counter.count_edge(graph, u, v, *tally, poll);
+              }
             } catch (const StopWalk&) {
               stopped = true;
               break;
@@ -229,13 +255,17 @@ GridCounts count_on_grid(const filtration::Filtration& f, const std::vector<filt
   if (chunk_count == 0) completed = 0;
 
   // Walk the intervals in order, adding each one's increments to the running totals.
-  LinkCounter binomials(0, false, 0, false);
+  LinkCounter binomials(0, 0, false);
   std::vector<int128> counts{static_cast<int128>(n)};
   int128 chi = static_cast<int128>(n);
   std::vector<std::vector<int128>> node(o.node_counts ? n : 0, std::vector<int128>{1});
   std::vector<std::vector<int128>> counts_at(intervals);
   std::vector<int128> chi_at(intervals, 0);
   std::vector<std::vector<std::vector<int128>>> node_at(o.node_counts ? intervals : 0);
+  // Curvature sums are integers modulo 2^256: any order gives the same totals.
+  // Every node starts with its own 0-simplex: kappa_i = 1.
+  std::vector<Int256> curvature(o.node_curvature ? n : 0, Int256::of(shares.denominator));
+  std::vector<std::vector<Int256>> curvature_at(o.node_curvature ? intervals : 0);
   std::size_t exact_intervals = intervals;   // chi and every count exact
   std::size_t reached_intervals = intervals; // counts up to the cap exact
   std::uint64_t work = 0;
@@ -282,6 +312,8 @@ GridCounts count_on_grid(const filtration::Filtration& f, const std::vector<filt
           for (std::size_t k = 0; k < row.size(); ++k)
             if (!add_to(node[original[x]], k, row[k])) overflow = true;
         }
+      if (o.node_curvature)
+        for (std::size_t x = 0; x < n; ++x) curvature[original[x]] += tally->curvature[x];
     }
     if (max_work != 0 && work + interval_work > max_work) {
       if (reason.empty()) reason = "max_work";
@@ -322,15 +354,23 @@ GridCounts count_on_grid(const filtration::Filtration& f, const std::vector<filt
     counts_at[i] = counts;
     chi_at[i] = chi;
     if (o.node_counts) node_at[i] = node;
+    if (o.node_curvature) curvature_at[i] = curvature;
   }
   exact_intervals = std::min(exact_intervals, reached_intervals);
 
   // Map grid points to checkpoints.
+  auto checkpoint_of = [&](std::size_t g) {
+    const std::size_t e = std::min(grid[g].edges, f.edges.size());
+    return static_cast<std::size_t>(std::lower_bound(checkpoints.begin(), checkpoints.end(), e) - checkpoints.begin());
+  };
+  // Curvature snapshots move to their last grid point instead of being copied.
+  std::vector<std::size_t> last_use(o.node_curvature ? intervals : 0, 0);
+  if (o.node_curvature)
+    for (std::size_t g = 0; g < grid.size(); ++g) last_use[checkpoint_of(g)] = g;
   result.complete_points = 0;
   bool leading = true;
   for (std::size_t g = 0; g < grid.size(); ++g) {
-    const std::size_t e = std::min(grid[g].edges, f.edges.size());
-    const std::size_t i = static_cast<std::size_t>(std::lower_bound(checkpoints.begin(), checkpoints.end(), e) - checkpoints.begin());
+    const std::size_t i = checkpoint_of(g);
     if (i < reached_intervals) {
       result.counts[g] = counts_at[i];
       result.chi[g] = chi_at[i];
@@ -340,10 +380,17 @@ GridCounts count_on_grid(const filtration::Filtration& f, const std::vector<filt
           if (row.size() < result.counts[g].size()) row.resize(result.counts[g].size(), 0);
       }
     }
-    if (leading && i < exact_intervals) ++result.complete_points;
-    else leading = false;
+    if (leading && i < exact_intervals) {
+      ++result.complete_points;
+      if (o.node_curvature)
+        result.curvature_numerators[g] = last_use[i] == g ? std::move(curvature_at[i]) : curvature_at[i];
+    } else {
+      leading = false;
+    }
   }
   result.stopped_by = reason;
+  result.curvature_exact = shares.exact;
+  result.curvature_denominator = shares.denominator;
   result.complete_edges = exact_intervals == 0 ? 0 : checkpoints[exact_intervals - 1];
   result.work = static_cast<double>(work);
   return result;

@@ -23,6 +23,7 @@
 
 #include "base/exact.hpp"
 #include "base/options.hpp"
+#include "cliques/int256.hpp"
 #include "filtration/filtration.hpp"
 
 namespace critplex::cliques {
@@ -33,6 +34,10 @@ struct Options {
   int threads = 0;         // 0: all cores
   bool node_counts = false;
   bool chi_only = false;
+  // Internal (set by the sweep, not an option key): node curvature straight from the
+  // pivoting tree's leaves (GridCounts::curvature_*), one addition per node of a leaf.
+  bool node_curvature = false;
+  bool curvature_fixed_point = false;  // tests: use the fixed-point sums even where exact ones fit
 };
 
 // The "cliques" section of the sweep options (keys as above, snake_case); unknown keys
@@ -50,6 +55,14 @@ struct GridCounts {
   // stopped_by is "max_dimension" (chi is then not exact); empty vectors otherwise.
   std::size_t complete_edges = 0;            // edges of the filtration fully processed
   double work = 0;                           // pivoting-tree nodes visited (up to the last complete point)
+  // Node curvature (Options::node_curvature), at points < complete_points:
+  // kappa_i = curvature_numerators[g][i] / curvature_denominator. Exact rationals when
+  // curvature_exact (denominator lcm(1..M), M the largest clique size the filtration
+  // can reach); else fixed point (denominator 2^126, every leaf share rounded to it, so
+  // each node's error is below 2^-126 per leaf; see pivot_tree.hpp).
+  bool curvature_exact = false;
+  int128 curvature_denominator = 1;
+  std::vector<std::vector<Int256>> curvature_numerators;  // [grid point][node]; empty beyond complete_points
 };
 
 // Counts on the grid. progress(fraction) returning true cancels (ErrorKind::cancelled);

@@ -2,6 +2,7 @@
 
 #include <algorithm>
 #include <bit>
+#include <utility>
 
 // The hot loops are popcounts; x86-64 builds get a second copy using the POPCNT
 // instruction, picked at load time, so one binary runs everywhere at full speed.
@@ -38,11 +39,58 @@ void IntervalTally::add_leaf(std::size_t h, std::size_t p) {
   ++leaves[h * stride + p];
 }
 
-LinkCounter::LinkCounter(std::size_t nodes, bool chi_only, std::size_t max_nodes, bool node_counts)
-    : chi_only_(chi_only), max_nodes_(max_nodes), node_counts_(node_counts), words_((nodes + 63) / 64) {
+LinkCounter::LinkCounter(std::size_t nodes, std::size_t max_nodes, bool node_counts)
+    : max_nodes_(max_nodes), node_counts_(node_counts), words_((nodes + 63) / 64) {
   // Depth never exceeds the size of a common neighbourhood (< nodes) plus the root.
   sets_.assign((nodes + 2) * words_, 0);
   rest_.assign((nodes + 2) * words_, 0);
+}
+
+CurvatureShares curvature_shares(std::size_t max_clique, bool force_fixed_point) {
+  __extension__ typedef __float128 quad;
+  CurvatureShares s;
+  const std::size_t m = std::max<std::size_t>(max_clique, 2);
+  s.stride = m - 1;  // p <= m - 2
+  s.numerators.assign((m - 1) * s.stride, 0);
+  // Exact: D = lcm(1..m) when it fits 127 bits (m <= 88).
+  int128 lcm = 1;
+  bool fits = !force_fixed_point;
+  for (std::size_t d = 2; d <= m && fits; ++d) {
+    int128 a = lcm, b = static_cast<int128>(d);
+    while (b != 0) a = std::exchange(b, a % b);
+    fits = !__builtin_mul_overflow(lcm / a, static_cast<int128>(d), &lcm);
+  }
+  if (fits) {
+    s.exact = true;
+    s.denominator = lcm;
+    // Pascal rows up to m - 1; every entry divides lcm(1..m) / (row + 1), so fits.
+    std::vector<std::vector<int128>> pascal{{1}};
+    for (std::size_t n = 1; n < m; ++n) {
+      std::vector<int128> row(n + 1, 1);
+      for (std::size_t j = 1; j < n; ++j) row[j] = pascal[n - 1][j - 1] + pascal[n - 1][j];
+      pascal.push_back(std::move(row));
+    }
+    for (std::size_t h = 0; h + 2 <= m; ++h)
+      for (std::size_t p = 0; h + p + 2 <= m; ++p) {
+        const std::size_t n = h + p + 1;  // share = 1 / ((n + 1) C(n, p))
+        const int128 magnitude = lcm / (static_cast<int128>(n + 1) * pascal[n][p]);
+        s.numerators[h * s.stride + p] = h % 2 == 1 ? magnitude : -magnitude;
+      }
+    return s;
+  }
+  // Fixed point: D = 2^126; shares (at most 1/2) by the recurrence
+  // share(h, p) = share(h, p - 1) p / (h + p + 2) in binary128, then rounded.
+  s.denominator = int128{1} << 126;
+  const quad scale = static_cast<quad>(s.denominator);
+  for (std::size_t h = 0; h + 2 <= m; ++h) {
+    quad share = quad{1} / static_cast<quad>(h + 2);
+    for (std::size_t p = 0; h + p + 2 <= m; ++p) {
+      if (p > 0) share = share * static_cast<quad>(p) / static_cast<quad>(h + p + 2);
+      const int128 magnitude = static_cast<int128>(share * scale + quad{0.5});
+      s.numerators[h * s.stride + p] = h % 2 == 1 ? magnitude : -magnitude;
+    }
+  }
+  return s;
 }
 
 int128 LinkCounter::binomial(std::size_t n, std::size_t k) {
@@ -71,7 +119,6 @@ void LinkCounter::tick() {
 CRITPLEX_POPCOUNT_CLONES
 void LinkCounter::count_edge(const BitGraph& g, std::uint32_t u, std::uint32_t v, IntervalTally& tally,
                              const std::function<bool()>& poll) {
-  g_ = &g;
   tally_ = &tally;
   poll_ = &poll;
   u_ = u;
@@ -82,24 +129,6 @@ void LinkCounter::count_edge(const BitGraph& g, std::uint32_t u, std::uint32_t v
   const std::uint64_t* rv = g.row(v);
   ++tally.edges;
   ++tally.work;
-  if (chi_only_) {
-    // chi: work on the global rows; most links are cones found at the root.
-    rows_ = g.row(0);
-    lw_ = words_;
-    compact_ = false;
-    std::uint64_t* root = sets_.data();
-    std::size_t lo = words_, hi = 0;
-    for (std::size_t w = 0; w < words_; ++w) {
-      root[w] = ru[w] & rv[w];
-      if (root[w]) {
-        lo = std::min(lo, w);
-        hi = w + 1;
-      }
-    }
-    if (hi == 0) lo = 0;
-    walk(0, lo, hi, 0, 0);
-    return;
-  }
   // Full counts: renumber the common neighbourhood 0..c-1 and copy its adjacency into
   // rows of ceil(c / 64) words, so every set operation below touches only the link.
   common_.resize(words_);
@@ -131,15 +160,16 @@ void LinkCounter::count_edge(const BitGraph& g, std::uint32_t u, std::uint32_t v
   std::uint64_t* root = sets_.data();
   for (std::size_t w = 0; w < lw_; ++w) root[w] = ~std::uint64_t{0};
   if (c % 64) root[lw_ - 1] = (std::uint64_t{1} << (c % 64)) - 1;
+  if (shares_ && share_sums_.size() < c + 2) share_sums_.resize(c + 2);  // depth <= c + 1
   walk(0, 0, lw_, 0, 0);
+  if (shares_) {
+    // u and v are in every leaf's simplices, like a hold node.
+    tally.curvature[u] += share_sums_[0].own;
+    tally.curvature[v] += share_sums_[0].own;
+  }
 }
 
-void LinkCounter::leaf(std::size_t h, std::size_t p) {
-  if (chi_only_) {
-    // A pivot-free leaf: the simplices uv + H, of dimension h + 1, add (-1)^(h+1).
-    tally_->chi_delta += (h % 2 == 1) ? 1 : -1;
-    return;
-  }
+void LinkCounter::leaf(std::size_t depth, std::size_t h, std::size_t p) {
   // Link cliques of h + j nodes are simplices of dimension 1 + h + j.
   std::size_t top_j = p;
   if (max_nodes_ != 0 && 2 + h + p > max_nodes_) {
@@ -147,6 +177,13 @@ void LinkCounter::leaf(std::size_t h, std::size_t p) {
     top_j = max_nodes_ - 2 - h;  // walk() never lets 2 + h exceed max_nodes_
   }
   tally_->add_leaf(h, p);
+  if (shares_) {
+    // Curvature takes the whole leaf (points past a truncation are never reported). The
+    // nodes on the leaf's path get these shares from take_shares() on the way up.
+    ShareSums& here = share_sums_[depth];
+    here.own += shares_->hold(h, p);
+    if (p > 0) here.pivot += shares_->hold(h + 1, p - 1);
+  }
   if (!node_counts_) return;
   auto add = [&](std::uint32_t node, std::size_t dim, int128 amount) {
     auto& row = tally_->node_delta[node];
@@ -167,34 +204,23 @@ void LinkCounter::leaf(std::size_t h, std::size_t p) {
   }
 }
 
+void LinkCounter::take_shares(std::size_t depth, std::uint32_t x, bool as_hold) {
+  const ShareSums& child = share_sums_[depth + 1];
+  tally_->curvature[global(x)] += as_hold ? child.own : child.pivot;
+  share_sums_[depth].own += child.own;
+  share_sums_[depth].pivot += child.pivot;
+}
+
 CRITPLEX_POPCOUNT_CLONES
 void LinkCounter::walk(std::size_t depth, std::size_t lo, std::size_t hi, std::size_t h, std::size_t p) {
   tick();
+  if (shares_) share_sums_[depth] = ShareSums{};
   const std::uint64_t* set = sets_.data() + depth * lw_;
   std::size_t size = 0;
   for (std::size_t w = lo; w < hi; ++w) size += static_cast<std::size_t>(std::popcount(set[w]));
   if (size == 0) {
-    leaf(h, p);
+    leaf(depth, h, p);
     return;
-  }
-
-  if (chi_only_) {
-    // Cheap first try: the candidate of highest degree in the whole graph is often
-    // joined to all the others, and then the link is a cone (see below).
-    std::size_t hub = 0;
-    std::uint32_t hub_degree = 0;
-    for (std::size_t w = lo; w < hi; ++w)
-      for (std::uint64_t bits = set[w]; bits; bits &= bits - 1) {
-        const std::size_t x = w * 64 + static_cast<std::size_t>(std::countr_zero(bits));
-        if (g_->degree(x) >= hub_degree) {
-          hub = x;
-          hub_degree = g_->degree(x);
-        }
-      }
-    const std::uint64_t* nbr = row(hub);
-    std::size_t d = 0;
-    for (std::size_t i = lo; i < hi; ++i) d += static_cast<std::size_t>(std::popcount(nbr[i] & set[i]));
-    if (d + 1 == size) return;
   }
 
   // Pivot: the candidate with the most neighbours among the candidates (first on ties).
@@ -212,10 +238,7 @@ void LinkCounter::walk(std::size_t depth, std::size_t lo, std::size_t hi, std::s
         found = true;
       }
       degree_sum += d;
-      // A node joined to every other candidate makes the link a cone: its reduced
-      // Euler characteristic is 0, so chi gains nothing from here.
       if (d + 1 == size) {
-        if (chi_only_) return;
         pivot = x;  // joined to every other candidate: no branch but the pivot's
         universal = true;
         break;
@@ -238,22 +261,30 @@ void LinkCounter::walk(std::size_t depth, std::size_t lo, std::size_t hi, std::s
     if (chi <= clo) clo = chi = lo;
   };
 
-  if (!chi_only_) {
-    if (!universal && degree_sum == size * (size - 1)) {
-      // The candidates form a clique: one leaf with all of them as pivots.
-      if (node_counts_)
-        for (std::size_t w = lo; w < hi; ++w)
-          for (std::uint64_t bits = set[w]; bits; bits &= bits - 1)
-            pivots_.push_back(static_cast<std::uint32_t>(w * 64 + static_cast<std::size_t>(std::countr_zero(bits))));
-      leaf(h, p + size);
-      if (node_counts_) pivots_.resize(pivots_.size() - size);
-      return;
+  if (!universal && degree_sum == size * (size - 1)) {
+    // The candidates form a clique: one leaf with all of them as pivots.
+    if (node_counts_)
+      for (std::size_t w = lo; w < hi; ++w)
+        for (std::uint64_t bits = set[w]; bits; bits &= bits - 1)
+          pivots_.push_back(static_cast<std::uint32_t>(w * 64 + static_cast<std::size_t>(std::countr_zero(bits))));
+    leaf(depth, h, p + size);
+    if (shares_) {
+      // This leaf's own pivots: every candidate.
+      const int128 share = shares_->hold(h + 1, p + size - 1);
+      for (std::size_t w = lo; w < hi; ++w)
+        for (std::uint64_t bits = set[w]; bits; bits &= bits - 1)
+          tally_->curvature[global(static_cast<std::uint32_t>(w * 64 + static_cast<std::size_t>(std::countr_zero(bits))))] += share;
     }
+    if (node_counts_) pivots_.resize(pivots_.size() - size);
+    return;
+  }
+  {
     std::size_t clo, chi;
     fill_child(set, row(pivot), clo, chi);
     if (node_counts_) pivots_.push_back(static_cast<std::uint32_t>(pivot));
     walk(depth + 1, clo, chi, h, p + 1);
     if (node_counts_) pivots_.pop_back();
+    if (shares_) take_shares(depth, static_cast<std::uint32_t>(pivot), false);
   }
 
   // Branches on the candidates outside the pivot's neighbourhood, each taken as a hold
@@ -279,6 +310,7 @@ void LinkCounter::walk(std::size_t depth, std::size_t lo, std::size_t hi, std::s
       if (node_counts_) holds_.push_back(static_cast<std::uint32_t>(x));
       walk(depth + 1, clo, chi, h + 1, p);
       if (node_counts_) holds_.pop_back();
+      if (shares_) take_shares(depth, static_cast<std::uint32_t>(x), true);
       rest[w] &= ~(std::uint64_t{1} << (x % 64));
     }
   }

@@ -8,6 +8,7 @@
 #include <vector>
 
 #include "base/exact.hpp"
+#include "cliques/int256.hpp"
 
 namespace critplex::cliques {
 
@@ -24,15 +25,33 @@ class BitGraph {
  private:
   std::vector<std::uint32_t> degree_;
   std::size_t nodes_;
-  std::size_t words_;                  // words of a global row
-  const std::uint64_t* rows_ = nullptr;  // adjacency rows the walk reads (global or local)
-  std::size_t lw_ = 0;                 // words of those rows
-  bool compact_ = false;               // rows are the renumbered link (full counts)
-  std::vector<std::uint32_t> members_; // local number -> global node
-  std::vector<std::uint32_t> rank_;    // members in earlier words
-  std::vector<std::uint64_t> common_, local_;
+  std::size_t words_;
   std::vector<std::uint64_t> bits_;
 };
+
+// Node curvature straight from the leaves (METHODS.md, "Consequences worth exploiting").
+// A leaf of edge uv with h hold nodes H and p pivot nodes P stands for the simplices
+// uv + H + S, S any subset of P, |S| = j, of dimension 1 + h + j; Knill's curvature
+// gives each node of a k-simplex (-1)^k / (k + 1). Summed over the leaf (Beta integral
+// sum_j C(p, j) (-1)^j / (a + j) = (a - 1)! p! / (a + p)!):
+//   u, v and each hold node:  hold_share(h, p)     = (-1)^(h+1) (h+1)! p! / (h+p+2)!
+//   each pivot node:          hold_share(h+1, p-1) = (-1)^h (h+2)! (p-1)! / (h+p+2)!
+// so curvature needs no count per clique size. Better still, the nodes on a leaf's
+// path get their shares as subtree sums, one addition per branch of the tree (walk());
+// only the pivots a leaf takes all at once are added one by one. Shares are integers
+// over one common denominator: lcm(1..M) (exact; every share's denominator
+// (h+p+2) C(h+p+1, p) divides lcm(1..h+p+2)) when that fits 127 bits, else 2^126 with
+// each share rounded to the nearest multiple of 2^-126 (fixed point). M bounds the
+// largest clique in nodes (the degeneracy of the last graph + 1).
+struct CurvatureShares {
+  bool exact = false;
+  int128 denominator = 1;
+  std::size_t stride = 0;        // p range of the table
+  std::vector<int128> numerators;  // [h * stride + p] = denominator * hold_share(h, p), h + p + 2 <= M
+  int128 hold(std::size_t h, std::size_t p) const { return numerators[h * stride + p]; }
+};
+// The table for cliques of at most max_clique nodes; fixed point when force_fixed_point.
+CurvatureShares curvature_shares(std::size_t max_clique, bool force_fixed_point);
 
 // What the leaves of the trees of one grid interval add up to. Leaves are tallied by
 // (holds h, pivots p) and turned into clique counts later (C(p, j) cliques of h + j
@@ -41,12 +60,13 @@ struct IntervalTally {
   std::vector<std::uint64_t> leaves;   // [h * stride + p]
   std::size_t stride = 0;              // allocated p range
   std::size_t rows = 0;                // allocated h range
-  std::int64_t chi_delta = 0;          // chi_only: sum over pivot-free leaves of (-1)^(h+1)
+  std::int64_t chi_delta = 0;          // chi_only: sum over the edges of -f(link) (link_euler.hpp)
   std::uint64_t work = 0;              // tree nodes visited (+1 per edge)
   std::uint64_t edges = 0;             // edges processed in this interval
   bool truncated = false;              // a clique above max_dimension was skipped
   bool overflow = false;               // a node count did not fit 128 bits
   std::vector<std::vector<int128>> node_delta;  // [node][k], when node counts are asked
+  std::vector<Int256> curvature;                // [node]: sum of the node's leaf shares, when curvature is asked
 
   void add_leaf(std::size_t h, std::size_t p);
 };
@@ -57,7 +77,7 @@ struct StopWalk {};
 class LinkCounter {
  public:
   // max_nodes: largest clique (in nodes) to count, 0 for no limit.
-  LinkCounter(std::size_t nodes, bool chi_only, std::size_t max_nodes, bool node_counts);
+  LinkCounter(std::size_t nodes, std::size_t max_nodes, bool node_counts);
 
   // Counts the cliques of the common neighbourhood of u and v in g (the edge uv itself
   // need not be in g) into tally. Calls poll() about every 4096 tree nodes; poll()
@@ -65,20 +85,24 @@ class LinkCounter {
   void count_edge(const BitGraph& g, std::uint32_t u, std::uint32_t v, IntervalTally& tally,
                   const std::function<bool()>& poll);
 
+  // Node curvature: every leaf adds its shares (table above) to tally.curvature.
+  void enable_curvature(const CurvatureShares& shares) { shares_ = &shares; }
+
   // Binomial C(n, k) in 128 bits, or -1 when it does not fit.
   int128 binomial(std::size_t n, std::size_t k);
 
  private:
   void walk(std::size_t depth, std::size_t lo, std::size_t hi, std::size_t h, std::size_t p);
-  void leaf(std::size_t h, std::size_t p);
+  void leaf(std::size_t depth, std::size_t h, std::size_t p);
+  // Curvature: adds the shares of the subtree below depth + 1 to the node x branched on
+  // there (hold or pivot) and to the sums of depth.
+  void take_shares(std::size_t depth, std::uint32_t x, bool as_hold);
   void tick();
   const std::uint64_t* row(std::size_t x) const { return rows_ + x * lw_; }
   std::uint32_t global(std::uint32_t x) const { return compact_ ? members_[x] : x; }
 
-  const BitGraph* g_ = nullptr;
   IntervalTally* tally_ = nullptr;
   const std::function<bool()>* poll_ = nullptr;
-  bool chi_only_;
   std::size_t max_nodes_;
   bool node_counts_;
   std::size_t words_;                  // words of a global row
@@ -91,6 +115,14 @@ class LinkCounter {
   std::vector<std::uint64_t> sets_;   // per depth: the candidate set
   std::vector<std::uint64_t> rest_;   // per depth: candidates not yet branched on
   std::vector<std::uint32_t> holds_, pivots_;  // node counts only: the path's roles
+  const CurvatureShares* shares_ = nullptr;    // node curvature, when asked
+  // Curvature, per depth: what the leaves below add up to for a hold node on their path
+  // (own) and for a pivot on their path, so a node gets one addition per branch taken
+  // on it instead of one per leaf below.
+  struct ShareSums {
+    Int256 own, pivot;
+  };
+  std::vector<ShareSums> share_sums_;
   std::uint32_t u_ = 0, v_ = 0;
   std::uint64_t since_poll_ = 0;
   std::vector<std::vector<int128>> binomials_;  // Pascal rows, grown on demand (-1: too big)

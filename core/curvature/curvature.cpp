@@ -48,6 +48,29 @@ double compensated_sum(const std::vector<double>& values) {
   return sum + carry;
 }
 
+// Ascending sort. Many values that are all small integers (Forman-Ricci curvature on
+// a grid of densities) are sorted by counting, in linear time; the result is the same.
+void sort_values(std::vector<double>& v) {
+  bool small_integers = v.size() >= 256;
+  double lo = 0.0, hi = 0.0;
+  for (std::size_t i = 0; i < v.size() && small_integers; ++i) {
+    const double x = v[i];
+    // NaN fails the first test; -0.0 goes to std::sort, which keeps its sign.
+    small_integers = x == std::floor(x) && std::fabs(x) < 1e15 && !(x == 0.0 && std::signbit(x));
+    lo = i == 0 ? x : std::min(lo, x);
+    hi = i == 0 ? x : std::max(hi, x);
+  }
+  if (!small_integers || hi - lo > 4.0 * static_cast<double>(v.size())) {
+    std::sort(v.begin(), v.end());
+    return;
+  }
+  std::vector<std::size_t> tally(static_cast<std::size_t>(hi - lo) + 1, 0);
+  for (double x : v) ++tally[static_cast<std::size_t>(x - lo)];
+  std::size_t out = 0;
+  for (std::size_t k = 0; k < tally.size(); ++k)
+    for (std::size_t c = 0; c < tally[k]; ++c) v[out++] = lo + static_cast<double>(k);
+}
+
 }  // namespace
 
 NodeCurvature node_curvature(const std::vector<std::vector<int128>>& counts) {
@@ -76,10 +99,11 @@ NodeCurvature node_curvature(const std::vector<std::vector<int128>>& counts) {
   if (exact) {
     out.exact = true;
     out.denominator = denominator;
-    out.numerators = std::move(numerators);
     // Through binary128 so that the double is (almost always) the correctly rounded quotient.
-    for (std::size_t i = 0; i < n; ++i)
-      out.kappa[i] = static_cast<double>(static_cast<quad>(out.numerators[i]) / static_cast<quad>(denominator));
+    for (std::size_t i = 0; i < n; ++i) {
+      out.kappa[i] = static_cast<double>(static_cast<quad>(numerators[i]) / static_cast<quad>(denominator));
+      out.numerators.push_back(cliques::Int256::of(numerators[i]));
+    }
     return out;
   }
   // Fallback for counts too large for a common denominator: binary128 (113-bit) sums.
@@ -94,27 +118,46 @@ NodeCurvature node_curvature(const std::vector<std::vector<int128>>& counts) {
   return out;
 }
 
+NodeCurvature node_curvature_from_sums(const std::vector<cliques::Int256>& numerators, int128 denominator, bool exact,
+                                       const NodeCurvature* previous) {
+  if (!(denominator > 0)) fail(ErrorKind::internal, "node curvature: the common denominator must be positive");
+  NodeCurvature out;
+  out.exact = exact;
+  out.fixed_point = !exact;
+  out.denominator = denominator;
+  out.numerators = numerators;
+  const bool reuse = previous && previous->denominator == denominator && previous->numerators.size() == numerators.size();
+  out.kappa.resize(numerators.size());
+  for (std::size_t i = 0; i < numerators.size(); ++i)
+    out.kappa[i] = reuse && previous->numerators[i] == numerators[i] ? previous->kappa[i] : numerators[i].ratio(denominator);
+  return out;
+}
+
 GaussBonnet check_gauss_bonnet(const NodeCurvature& c, int128 chi) {
   GaussBonnet g;
   g.chi = chi;
   g.sum_kappa = compensated_sum(c.kappa);
   const double scale = std::max(std::fabs(to_double(chi)), 1.0);
   g.relative_error = std::fabs(g.sum_kappa - to_double(chi)) / scale;
+  // 256-bit sums cannot overflow here: fewer than 2^64 numerators below 2^191 each.
+  cliques::Int256 total;
+  for (const auto& x : c.numerators) total += x;
   if (c.exact) {
-    int128 total = 0, target = 0;
-    bool fits = !__builtin_mul_overflow(chi, c.denominator, &target);
-    for (std::size_t i = 0; fits && i < c.numerators.size(); ++i)
-      fits = !__builtin_add_overflow(total, c.numerators[i], &total);
-    if (fits) {
-      g.exact = true;
-      g.method = "exact rational";
-      if (total != target)
-        fail(ErrorKind::internal, "Gauss-Bonnet identity fails exactly: sum of curvatures " + to_decimal(total) + "/" +
-                                      to_decimal(c.denominator) + " but chi = " + to_decimal(chi));
-      return g;
-    }
+    g.exact = true;
+    g.method = "exact rational";
+    if (!(total == cliques::Int256::product(chi, c.denominator)))
+      fail(ErrorKind::internal, "Gauss-Bonnet identity fails exactly: sum of curvatures " +
+                                    std::to_string(total.ratio(c.denominator)) + " but chi = " + to_decimal(chi));
+    return g;
   }
-  g.method = "binary128";
+  if (c.fixed_point) {
+    // The integer sum carries only the rounding of the shares (below 2^-126 each).
+    const double sum = total.ratio(c.denominator);
+    if (!(std::fabs(sum - to_double(chi)) / scale <= 1e-12))
+      fail(ErrorKind::internal, "Gauss-Bonnet identity fails: fixed-point sum of curvatures " + std::to_string(sum) +
+                                    " but chi = " + to_decimal(chi));
+  }
+  g.method = c.fixed_point ? "fixed point" : "binary128";
   // Floating check: rounding allows a few ulps of the sum of |kappa_i|.
   double magnitude = 0.0;
   for (double k : c.kappa) magnitude += std::fabs(k);
@@ -156,6 +199,86 @@ Forman forman_ricci(std::size_t nodes, const std::vector<std::pair<std::uint32_t
   return f;
 }
 
+std::size_t IntegerTally::size() const {
+  std::size_t n = 0;
+  for (std::size_t c : counts) n += c;
+  return n;
+}
+
+double IntegerTally::at(std::size_t rank) const {
+  for (std::size_t k = 0; k < counts.size(); ++k) {
+    if (rank < counts[k]) return static_cast<double>(lowest + static_cast<long long>(k));
+    rank -= counts[k];
+  }
+  fail(ErrorKind::internal, "IntegerTally::at: rank beyond the tally");
+}
+
+FormanSweep::FormanSweep(std::size_t nodes, const std::vector<std::pair<std::uint32_t, std::uint32_t>>& edges)
+    : nodes_(nodes), words_((nodes + 63) / 64), edges_(edges), adjacency_(nodes * words_, 0), incident_(nodes),
+      value_(edges.size(), 0), node_sum_(nodes, 0) {
+  if (nodes <= 2048) index_.assign(nodes * nodes, 0);  // 16 MB at most
+  tally_.lowest = 6 - 2 * static_cast<long long>(nodes);
+  tally_.counts.assign(3 * nodes + 1, 0);  // [6 - 2N, N]
+}
+
+std::size_t FormanSweep::edge_index(std::uint32_t a, std::uint32_t b) const {
+  if (!index_.empty()) return index_[a * nodes_ + b];
+  return sparse_index_.at((std::uint64_t{std::min(a, b)} << 32) | std::max(a, b));
+}
+
+void FormanSweep::change(std::size_t edge, int delta) {
+  const auto [a, b] = edges_[edge];
+  --tally_.counts[static_cast<std::size_t>(value_[edge] - tally_.lowest)];
+  value_[edge] += delta;
+  ++tally_.counts[static_cast<std::size_t>(value_[edge] - tally_.lowest)];
+  node_sum_[a] += delta;
+  node_sum_[b] += delta;
+}
+
+void FormanSweep::advance(std::size_t edge_count) {
+  if (edge_count > edges_.size() || edge_count < entered_) fail(ErrorKind::internal, "FormanSweep: bad edge count");
+  for (; entered_ < edge_count; ++entered_) {
+    const auto [u, v] = edges_[entered_];
+    if (u >= nodes_ || v >= nodes_ || u == v) fail(ErrorKind::internal, "FormanSweep: bad edge");
+    // One more degree at u and at v: every edge already there loses 1.
+    for (std::uint32_t e : incident_[u]) change(e, -1);
+    for (std::uint32_t e : incident_[v]) change(e, -1);
+    // Each common neighbour w closes a triangle uvw: uw and vw gain 3.
+    int triangles = 0;
+    const std::uint64_t* ru = adjacency_.data() + u * words_;
+    const std::uint64_t* rv = adjacency_.data() + v * words_;
+    for (std::size_t w = 0; w < words_; ++w)
+      for (std::uint64_t bits = ru[w] & rv[w]; bits; bits &= bits - 1) {
+        const auto x = static_cast<std::uint32_t>(w * 64 + static_cast<std::size_t>(std::countr_zero(bits)));
+        change(edge_index(u, x), 3);
+        change(edge_index(v, x), 3);
+        ++triangles;
+      }
+    const int value = 4 - static_cast<int>(incident_[u].size() + 1) - static_cast<int>(incident_[v].size() + 1) + 3 * triangles;
+    value_[entered_] = value;
+    ++tally_.counts[static_cast<std::size_t>(value - tally_.lowest)];
+    node_sum_[u] += value;
+    node_sum_[v] += value;
+    adjacency_[u * words_ + v / 64] |= std::uint64_t{1} << (v % 64);
+    adjacency_[v * words_ + u / 64] |= std::uint64_t{1} << (u % 64);
+    incident_[u].push_back(static_cast<std::uint32_t>(entered_));
+    incident_[v].push_back(static_cast<std::uint32_t>(entered_));
+    if (!index_.empty()) {
+      index_[u * nodes_ + v] = index_[v * nodes_ + u] = static_cast<std::uint32_t>(entered_);
+    } else {
+      sparse_index_[(std::uint64_t{std::min(u, v)} << 32) | std::max(u, v)] = static_cast<std::uint32_t>(entered_);
+    }
+  }
+}
+
+std::vector<double> FormanSweep::node_mean() const {
+  std::vector<double> mean(nodes_);
+  for (std::size_t i = 0; i < nodes_; ++i)
+    mean[i] = incident_[i].empty() ? not_a_number
+                                   : static_cast<double>(node_sum_[i]) / static_cast<double>(incident_[i].size());
+  return mean;
+}
+
 double quantile_sorted(const std::vector<double>& sorted, double q) {
   if (sorted.empty()) return not_a_number;
   const double h = q * static_cast<double>(sorted.size() - 1);
@@ -176,7 +299,7 @@ Distribution describe(const std::vector<double>& values, const std::vector<doubl
     return d;
   }
   std::vector<double> sorted = values;
-  std::sort(sorted.begin(), sorted.end());
+  sort_values(sorted);
   d.min = sorted.front();
   d.max = sorted.back();
   const double n = static_cast<double>(values.size());
@@ -216,6 +339,92 @@ Distribution describe(const std::vector<double>& values, const std::vector<doubl
   return d;
 }
 
+namespace {
+// Type 7 quantile of n sorted values, the k-th read by at(k).
+template <class At>
+double quantile_at(std::size_t n, double q, const At& at) {
+  if (n == 0) return not_a_number;
+  const double h = q * static_cast<double>(n - 1);
+  const std::size_t lo = static_cast<std::size_t>(std::floor(h));
+  const std::size_t hi = std::min(lo + 1, n - 1);
+  const double a = at(lo), b = hi == lo ? a : at(hi);
+  return a + (h - static_cast<double>(lo)) * (b - a);
+}
+
+// The histogram bin of v (every bin [a, b) except the last, [a, b]), or counts it outside.
+void bin_value(double v, std::size_t times, const std::vector<double>& bin_edges, Distribution& d) {
+  const std::size_t bins = d.histogram.size();
+  if (bins == 0) return;
+  if (v < bin_edges.front()) { d.below += times; return; }
+  if (v > bin_edges.back()) { d.above += times; return; }
+  auto it = std::upper_bound(bin_edges.begin(), bin_edges.end(), v);
+  std::size_t b = static_cast<std::size_t>(it - bin_edges.begin());
+  b = b == 0 ? 0 : b - 1;
+  if (b >= bins) b = bins - 1;  // the right edge belongs to the last bin
+  d.histogram[b] += times;
+}
+}  // namespace
+
+Distribution describe_tally(const IntegerTally& values, const std::vector<double>& levels,
+                      const std::vector<double>& bin_edges) {
+  Distribution d;
+  d.count = values.size();
+  d.histogram.assign(bin_edges.size() >= 2 ? bin_edges.size() - 1 : 0, 0);
+  if (d.count == 0) {
+    d.mean = d.sd = d.skewness = d.kurtosis = d.min = d.max = not_a_number;
+    d.quantiles.assign(levels.size(), not_a_number);
+    return d;
+  }
+  std::size_t first = 0, last = values.counts.size() - 1;
+  while (values.counts[first] == 0) ++first;
+  while (values.counts[last] == 0) --last;
+  auto value_of = [&](std::size_t k) { return static_cast<double>(values.lowest + static_cast<long long>(k)); };
+  d.min = value_of(first);
+  d.max = value_of(last);
+  const double n = static_cast<double>(d.count);
+  long long sum = 0;  // exact: |values| <= 2N, fewer than N^2 of them
+  for (std::size_t k = first; k <= last; ++k) sum += static_cast<long long>(values.counts[k]) * (values.lowest + static_cast<long long>(k));
+  d.mean = static_cast<double>(sum) / n;
+  double m2 = 0.0, m3 = 0.0, m4 = 0.0;
+  for (std::size_t k = first; k <= last; ++k) {
+    if (values.counts[k] == 0) continue;
+    const double c = static_cast<double>(values.counts[k]), x = value_of(k) - d.mean;
+    m2 += c * x * x;
+    m3 += c * x * x * x;
+    m4 += c * x * x * x * x;
+    bin_value(value_of(k), values.counts[k], bin_edges, d);
+  }
+  m2 /= n;
+  m3 /= n;
+  m4 /= n;
+  if (d.min == d.max) {
+    d.sd = 0.0;
+    d.skewness = d.kurtosis = not_a_number;
+  } else {
+    d.sd = std::sqrt(m2);
+    d.skewness = m3 / std::pow(m2, 1.5);
+    d.kurtosis = m4 / (m2 * m2) - 3.0;
+  }
+  for (double q : levels) d.quantiles.push_back(quantile_at(d.count, q, [&](std::size_t r) { return values.at(r); }));
+  return d;
+}
+
+std::vector<double> freedman_diaconis_bins_tally(const IntegerTally& pooled, std::size_t max_bins) {
+  const std::size_t n = pooled.size();
+  if (n == 0) return fixed_bins(0.0, 1.0, 1);
+  const double lo = pooled.at(0), hi = pooled.at(n - 1);
+  if (lo == hi) return fixed_bins(lo - 0.5, hi + 0.5, 1);
+  auto at = [&](std::size_t r) { return pooled.at(r); };
+  const double iqr = quantile_at(n, 0.75, at) - quantile_at(n, 0.25, at);
+  std::size_t bins = 1;
+  if (iqr > 0.0) {
+    const double width = 2.0 * iqr / std::cbrt(static_cast<double>(n));
+    bins = static_cast<std::size_t>(std::ceil((hi - lo) / width));
+  }
+  bins = std::clamp<std::size_t>(bins, 1, std::max<std::size_t>(max_bins, 1));
+  return fixed_bins(lo, hi, bins);
+}
+
 std::vector<double> fixed_bins(double lo, double hi, std::size_t bins) {
   if (!(std::isfinite(lo) && std::isfinite(hi) && lo < hi))
     fail(ErrorKind::argument, "histogram range must be two finite numbers lo < hi");
@@ -230,10 +439,15 @@ std::vector<double> fixed_bins(double lo, double hi, std::size_t bins) {
 std::vector<double> freedman_diaconis_bins(std::vector<double> pooled, std::size_t max_bins) {
   pooled.erase(std::remove_if(pooled.begin(), pooled.end(), [](double v) { return !std::isfinite(v); }), pooled.end());
   if (pooled.empty()) return fixed_bins(0.0, 1.0, 1);
-  std::sort(pooled.begin(), pooled.end());
-  double lo = pooled.front(), hi = pooled.back();
+  const auto [min_it, max_it] = std::minmax_element(pooled.begin(), pooled.end());
+  const double lo = *min_it, hi = *max_it;
   if (lo == hi) return fixed_bins(lo - 0.5, hi + 0.5, 1);
-  const double iqr = quantile_sorted(pooled, 0.75) - quantile_sorted(pooled, 0.25);
+  // Order statistics by selection (linear time; the pool holds every point's values).
+  auto at = [&](std::size_t k) {
+    std::nth_element(pooled.begin(), pooled.begin() + static_cast<std::ptrdiff_t>(k), pooled.end());
+    return pooled[k];
+  };
+  const double iqr = quantile_at(pooled.size(), 0.75, at) - quantile_at(pooled.size(), 0.25, at);
   std::size_t bins = 1;
   if (iqr > 0.0) {
     const double width = 2.0 * iqr / std::cbrt(static_cast<double>(pooled.size()));

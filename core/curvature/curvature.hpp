@@ -2,10 +2,12 @@
 //
 // Node curvature (Gauss-Bonnet, Knill 2011, arXiv:1111.5395):
 //   kappa_i = sum_{k>=0} (-1)^k Cl_{i,k} / (k+1),  Cl_{i,k} = k-simplices containing node i
-// so that sum_i kappa_i = chi exactly. The inputs are the exact node clique counts of
-// the clique engine; the sum is done in exact rational arithmetic (a common
-// denominator lcm(1..K+1) in 128-bit integers) whenever it fits, else in binary128
-// (__float128) with an error bound, and Gauss-Bonnet is checked either way.
+// so that sum_i kappa_i = chi exactly. On a sweep the clique engine sums each node's
+// share leaf by leaf of its pivoting tree (cliques/pivot_tree.hpp) as integers over a
+// common denominator: exact rationals (lcm(1..M)) when that fits, else fixed point
+// (2^126). From node clique counts (node_curvature below, the reference route) the sum
+// is exact rational (lcm(1..K+1) in 128-bit integers) when it fits, else binary128.
+// Gauss-Bonnet is checked either way: as an integer identity when exact.
 //
 // Forman-Ricci edge curvature augmented with triangles, unweighted (Sreejith et al.
 // 2016; Samal et al. 2018): F(uv) = 4 - deg(u) - deg(v) + 3 t(uv).
@@ -19,10 +21,12 @@
 #include <cstddef>
 #include <cstdint>
 #include <string>
+#include <unordered_map>
 #include <utility>
 #include <vector>
 
 #include "base/exact.hpp"
+#include "cliques/int256.hpp"
 
 namespace critplex::curvature {
 
@@ -31,10 +35,15 @@ namespace critplex::curvature {
 struct NodeCurvature {
   std::vector<double> kappa;          // per node
   bool exact = false;                 // true: kappa_i = numerator_i / denominator exactly
-  int128 denominator = 1;             // lcm(1..K+1) when exact
-  std::vector<int128> numerators;     // per node, when exact
+  bool fixed_point = false;           // true: numerators over denominator = 2^126, shares rounded
+  int128 denominator = 1;             // when exact or fixed_point
+  std::vector<cliques::Int256> numerators;  // per node, when exact or fixed_point
 };
 NodeCurvature node_curvature(const std::vector<std::vector<int128>>& counts);
+// From the clique engine's sums (cliques::GridCounts::curvature_numerators). Nodes whose
+// numerator equals the one in `previous` (same denominator) reuse its double.
+NodeCurvature node_curvature_from_sums(const std::vector<cliques::Int256>& numerators, int128 denominator, bool exact,
+                                       const NodeCurvature* previous = nullptr);
 
 // The Gauss-Bonnet check sum_i kappa_i = chi.
 struct GaussBonnet {
@@ -42,9 +51,10 @@ struct GaussBonnet {
   double sum_kappa = 0.0;       // the floating sum of the reported kappa_i (compensated)
   double relative_error = 0.0;  // |sum_kappa - chi| / max(|chi|, 1)
   bool exact = false;           // the identity was verified in exact integer arithmetic
-  std::string method;           // "exact rational" or "binary128"
+  std::string method;           // "exact rational", "fixed point" or "binary128"
 };
-// Throws ErrorKind::internal when the identity fails (exactly, or beyond 1e-12 relative).
+// Throws ErrorKind::internal when the identity fails (exactly, or beyond 1e-12 relative;
+// in fixed point both the integer sums and the doubles are checked).
 GaussBonnet check_gauss_bonnet(const NodeCurvature& curvature, int128 chi);
 
 // Forman-Ricci curvature of the graph made of the first `edge_count` edges.
@@ -54,6 +64,41 @@ struct Forman {
 };
 Forman forman_ricci(std::size_t nodes, const std::vector<std::pair<std::uint32_t, std::uint32_t>>& edges,
                     std::size_t edge_count);
+
+// A multiset of integers as a count per value: value lowest + k occurs counts[k] times.
+struct IntegerTally {
+  long long lowest = 0;
+  std::vector<std::size_t> counts;
+  std::size_t size() const;
+  double at(std::size_t rank) const;  // the rank-th smallest value (rank < size())
+};
+
+// Forman-Ricci curvature along the filtration, edge by edge. Edges are only added, so
+// entering uv changes F on the edges at u and v (one more degree) and on uw, vw for each
+// common neighbour w (one more triangle): O(deg u + deg v) per edge instead of
+// recomputing every edge at every grid point. F is an integer in [6 - 2N, N].
+class FormanSweep {
+ public:
+  FormanSweep(std::size_t nodes, const std::vector<std::pair<std::uint32_t, std::uint32_t>>& edges);
+  void advance(std::size_t edge_count);  // enter edges up to edge_count (never fewer than now)
+  std::size_t edges() const { return entered_; }
+  const IntegerTally& tally() const { return tally_; }  // the values of the entered edges
+  std::vector<double> node_mean() const;                 // as Forman::node_mean
+  int value(std::size_t edge) const { return value_[edge]; }
+
+ private:
+  void change(std::size_t edge, int delta);
+  std::size_t edge_index(std::uint32_t a, std::uint32_t b) const;
+  std::size_t nodes_, words_, entered_ = 0;
+  const std::vector<std::pair<std::uint32_t, std::uint32_t>>& edges_;
+  std::vector<std::uint64_t> adjacency_;
+  std::vector<std::vector<std::uint32_t>> incident_;  // per node: entered edges at it
+  std::vector<int> value_;
+  std::vector<long long> node_sum_;
+  std::vector<std::uint32_t> index_;                  // dense pair -> edge (N <= 2048)
+  std::unordered_map<std::uint64_t, std::uint32_t> sparse_index_;  // larger N
+  IntegerTally tally_;
+};
 
 // Moments, quantiles and histogram of a set of values.
 struct Distribution {
@@ -65,6 +110,9 @@ struct Distribution {
 };
 Distribution describe(const std::vector<double>& values, const std::vector<double>& levels,
                       const std::vector<double>& bin_edges);
+// The same for integer values given as a tally (cost by distinct values, not by values).
+Distribution describe_tally(const IntegerTally& values, const std::vector<double>& levels,
+                      const std::vector<double>& bin_edges);
 
 // Quantile at level q in [0, 1] of sorted values (type 7).
 double quantile_sorted(const std::vector<double>& sorted, double q);
@@ -73,5 +121,6 @@ std::vector<double> fixed_bins(double lo, double hi, std::size_t bins);
 // Data-driven bin grid over the pooled values: the Freedman-Diaconis width
 // 2 IQR n^(-1/3) (Freedman & Diaconis 1981), clamped to 1..max_bins bins over [min, max].
 std::vector<double> freedman_diaconis_bins(std::vector<double> pooled, std::size_t max_bins);
+std::vector<double> freedman_diaconis_bins_tally(const IntegerTally& pooled, std::size_t max_bins);
 
 }  // namespace critplex::curvature

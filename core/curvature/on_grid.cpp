@@ -1,5 +1,6 @@
 #include "curvature/on_grid.hpp"
 
+#include <algorithm>
 #include <cmath>
 #include <cstdio>
 
@@ -57,43 +58,79 @@ OnGrid on_grid(const filtration::Filtration& f, const std::vector<filtration::Gr
   for (const auto& e : f.edges) edges.emplace_back(e.u, e.v);
 
   // First pass: the values themselves (histogram grids may depend on all of them).
-  std::vector<double> pooled_kappa, pooled_forman;
-  std::vector<std::vector<double>> forman_values(grid.size());
+  // Forman-Ricci values are integers kept as tallies, entered edge by edge in grid order.
+  std::vector<double> pooled_kappa;
+  std::vector<IntegerTally> forman_values(grid.size());
+  IntegerTally pooled_forman;
+  if (options.forman) {
+    FormanSweep forman(f.nodes, edges);
+    std::vector<std::size_t> order(grid.size());
+    for (std::size_t g = 0; g < grid.size(); ++g) order[g] = g;
+    std::stable_sort(order.begin(), order.end(), [&](std::size_t a, std::size_t b) { return grid[a].edges < grid[b].edges; });
+    pooled_forman.lowest = forman.tally().lowest;
+    pooled_forman.counts.assign(forman.tally().counts.size(), 0);
+    for (std::size_t g : order) {
+      if (grid[g].edges > edges.size()) continue;
+      PointCurvature& p = c.points[g];
+      forman.advance(grid[g].edges);
+      // Keep only the span of values present (a fine grid has many points).
+      const auto& all = forman.tally().counts;
+      std::size_t first = 0, last = all.size();
+      while (first < last && all[first] == 0) ++first;
+      while (last > first && all[last - 1] == 0) --last;
+      forman_values[g].lowest = pooled_forman.lowest + static_cast<long long>(first);
+      forman_values[g].counts.assign(all.begin() + static_cast<std::ptrdiff_t>(first), all.begin() + static_cast<std::ptrdiff_t>(last));
+      for (std::size_t k = first; k < last; ++k) pooled_forman.counts[k] += all[k];
+      p.forman_node_mean = forman.node_mean();
+      p.forman_computed = true;
+    }
+  }
+  NodeCurvature last;  // the previous point's: on a fine grid most nodes keep their value
   for (std::size_t g = 0; g < grid.size(); ++g) {
     PointCurvature& p = c.points[g];
-    if (g < counts.complete_points && g < counts.node_counts.size() && !counts.node_counts[g].empty()) {
-      NodeCurvature nc = node_curvature(counts.node_counts[g]);
+    // Preferably the engine's per-node sums (taken in its counting tree); node clique
+    // counts, when that is what the engine was asked for, give the same values.
+    const bool have_sums = g < counts.curvature_numerators.size() && !counts.curvature_numerators[g].empty();
+    const bool have_counts = g < counts.node_counts.size() && !counts.node_counts[g].empty();
+    if (g < counts.complete_points && (have_sums || have_counts)) {
+      NodeCurvature nc = have_sums ? node_curvature_from_sums(counts.curvature_numerators[g], counts.curvature_denominator,
+                                                              counts.curvature_exact, &last)
+                                   : node_curvature(counts.node_counts[g]);
       p.gauss_bonnet = check_gauss_bonnet(nc, counts.chi[g]);
+      if (have_sums) last = nc;
       p.kappa = std::move(nc.kappa);
       p.computed = true;
       c.all_exact = c.all_exact && p.gauss_bonnet.exact;
       c.max_relative_error = std::max(c.max_relative_error, p.gauss_bonnet.relative_error);
       pooled_kappa.insert(pooled_kappa.end(), p.kappa.begin(), p.kappa.end());
     }
-    if (options.forman && grid[g].edges <= edges.size()) {
-      Forman fr = forman_ricci(f.nodes, edges, grid[g].edges);
-      forman_values[g] = std::move(fr.edge_values);
-      p.forman_node_mean = std::move(fr.node_mean);
-      p.forman_computed = true;
-      pooled_forman.insert(pooled_forman.end(), forman_values[g].begin(), forman_values[g].end());
-    }
   }
-  auto bins_for = [&](std::vector<double>& pooled, const std::vector<double>& range) {
-    if (options.auto_bins) return freedman_diaconis_bins(std::move(pooled), options.max_bins);
-    if (!range.empty()) return fixed_bins(range[0], range[1], options.bins);
-    // Fixed count over the data's own range.
-    double lo = HUGE_VAL, hi = -HUGE_VAL;
-    for (double v : pooled) lo = std::min(lo, v), hi = std::max(hi, v);
+  // Fixed count over the data's own range [lo, hi].
+  auto own_range_bins = [&](double lo, double hi) {
     if (!(lo < hi)) return fixed_bins(std::isfinite(lo) ? lo - 0.5 : 0.0, std::isfinite(lo) ? lo + 0.5 : 1.0, options.bins);
     return fixed_bins(lo, hi, options.bins);
   };
-  c.node_bin_edges = bins_for(pooled_kappa, options.node_range);
-  if (options.forman) c.forman_bin_edges = bins_for(pooled_forman, options.forman_range);
+  if (options.auto_bins) {
+    c.node_bin_edges = freedman_diaconis_bins(std::move(pooled_kappa), options.max_bins);
+  } else if (!options.node_range.empty()) {
+    c.node_bin_edges = fixed_bins(options.node_range[0], options.node_range[1], options.bins);
+  } else {
+    double lo = HUGE_VAL, hi = -HUGE_VAL;
+    for (double v : pooled_kappa) lo = std::min(lo, v), hi = std::max(hi, v);
+    c.node_bin_edges = own_range_bins(lo, hi);
+  }
+  if (options.forman) {
+    const std::size_t pooled = pooled_forman.size();
+    if (options.auto_bins) c.forman_bin_edges = freedman_diaconis_bins_tally(pooled_forman, options.max_bins);
+    else if (!options.forman_range.empty())
+      c.forman_bin_edges = fixed_bins(options.forman_range[0], options.forman_range[1], options.bins);
+    else c.forman_bin_edges = own_range_bins(pooled ? pooled_forman.at(0) : HUGE_VAL, pooled ? pooled_forman.at(pooled - 1) : -HUGE_VAL);
+  }
 
   for (std::size_t g = 0; g < grid.size(); ++g) {
     PointCurvature& p = c.points[g];
     if (p.computed) p.node = describe(p.kappa, options.quantile_levels, c.node_bin_edges);
-    if (p.forman_computed) p.forman = describe(forman_values[g], options.quantile_levels, c.forman_bin_edges);
+    if (p.forman_computed) p.forman = describe_tally(forman_values[g], options.quantile_levels, c.forman_bin_edges);
   }
   return c;
 }

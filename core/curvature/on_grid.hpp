@@ -1,5 +1,6 @@
-// The curvature engine of a sweep: node curvature (from the clique engine's exact node
-// counts) and Forman-Ricci edge curvature at every grid point, their distributions,
+// The curvature engine of a sweep: node curvature (from the clique engine's per-node
+// curvature sums, cliques::Options::node_curvature, or else its node clique counts) and
+// Forman-Ricci edge curvature at every grid point, their distributions,
 // the Gauss-Bonnet check, curve columns and the "curvature" JSON section.
 #pragma once
 

@@ -143,7 +143,9 @@ SweepResult run_sweep(const connectivity::Matrix& matrix, const SweepOptions& op
       cliques::Options copt = cliques::parse_options(section.is_boolean() ? Json() : section);
       if (wants_curvature && copt.chi_only)
         fail(ErrorKind::argument, "sweep options: \"curvature\" needs every clique size; drop cliques.chi_only");
-      copt.node_counts = copt.node_counts || wants_curvature;  // the curvature block needs them
+      // The curvature block reads per-node curvature sums taken straight from the
+      // pivoting tree's leaves (no per-size node counts needed).
+      copt.node_curvature = wants_curvature;
       clique_counts = cliques::count_on_grid(result.filtration, result.grid, copt, progress);
       have_clique_counts = true;
       add_clique_columns(result, clique_counts, copt);
@@ -168,7 +170,7 @@ SweepResult run_sweep(const connectivity::Matrix& matrix, const SweepOptions& op
     result.sections["homology"] = std::move(section);
   }
 
-  // --- curvature: Gauss-Bonnet node curvature from the exact node clique counts, with
+  // --- curvature: Gauss-Bonnet node curvature from the clique engine's per-node sums, with
   // the identity sum kappa_i = chi checked at every point, and Forman-Ricci edge
   // curvature (core/curvature). On when the options have a "curvature" section (the
   // CLI's --curvature).

@@ -1,12 +1,18 @@
 // Benchmark: what curvature on the grid costs on top of the clique counts themselves.
-//   bench_curvature N [max_density] [step] [seed] [matrix_out.npy]
+//   bench_curvature N [max_density] [step] [seed] [matrix_out.npy] [--old-route]
 // Times, on one invented brain-like matrix (a few modules of shared smooth signals plus
-// noise): (a) exact clique counts and chi on the grid, (b) the same with node counts,
-// (c) node curvature, Gauss-Bonnet checks, Forman-Ricci and distributions from (b).
-// Prints one line of key=value pairs; factor = (b + c) / a. Single thread, so the
-// numbers do not depend on the machine's other load as much; each time is the best of 3.
+// noise): (a) exact clique counts and chi on the grid, (b) the same with the per-node
+// curvature sums taken from the pivoting tree's leaves (what a sweep with curvature
+// runs), (c) node curvature and Gauss-Bonnet checks from (b), alone and with Forman-Ricci
+// and the distributions. factor_node = (b + c node only) / a, factor_all = (b + c all) / a.
+// --old-route also times the route used before the leaf sums: per-node, per-size clique
+// counts, then curvature from them (old_factor_node; it can fail the Gauss-Bonnet check
+// where the counts are too large for exact sums). Prints one line of key=value pairs.
+// Single thread, so the numbers do not depend on the machine's other load as much; each
+// time is the best of 3.
 #include <algorithm>
 #include <chrono>
+#include <cstring>
 #include <cstdio>
 #include <cstdlib>
 #include <random>
@@ -56,11 +62,14 @@ int main(int argc, char** argv) {
     return 2;
   }
   const std::size_t n = std::strtoul(argv[1], nullptr, 10);
-  const double max_density = argc > 2 ? std::atof(argv[2]) : 0.3;
-  const double step = argc > 3 ? std::atof(argv[3]) : 0.01;
-  const std::uint64_t seed = argc > 4 ? std::strtoull(argv[4], nullptr, 10) : 1;
+  auto positional = [&](int i) { return argc > i && std::strcmp(argv[i], "--old-route") != 0; };
+  const double max_density = positional(2) ? std::atof(argv[2]) : 0.3;
+  const double step = positional(3) ? std::atof(argv[3]) : 0.01;
+  const std::uint64_t seed = positional(4) ? std::strtoull(argv[4], nullptr, 10) : 1;
   const Eigen::MatrixXd m = brain_like(n, 300, seed);
-  if (argc > 5) io::write_file_atomically(argv[5], io::encode_npy(m));
+  bool old_route = false;
+  for (int a = 2; a < argc; ++a) old_route = old_route || std::strcmp(argv[a], "--old-route") == 0;
+  if (argc > 5 && std::strcmp(argv[5], "--old-route") != 0) io::write_file_atomically(argv[5], io::encode_npy(m));
 
   filtration::Filtration f = filtration::build(m, filtration::WeightMode::positive, max_density);
   filtration::GridSpec spec;
@@ -70,22 +79,40 @@ int main(int argc, char** argv) {
 
   cliques::Options plain;
   plain.threads = 1;
-  cliques::Options with_nodes = plain;
-  with_nodes.node_counts = true;
+  cliques::Options with_curvature = plain;
+  with_curvature.node_curvature = true;
   cliques::GridCounts a, b;
   curvature::OnGrid c;
   curvature::Options node_only;
   node_only.forman = false;
   const double ta = seconds([&] { a = cliques::count_on_grid(f, grid, plain, {}); });
-  const double tb = seconds([&] { b = cliques::count_on_grid(f, grid, with_nodes, {}); });
+  const double tb = seconds([&] { b = cliques::count_on_grid(f, grid, with_curvature, {}); });
   const double tc_nodes = seconds([&] { c = curvature::on_grid(f, grid, b, node_only); });
   const double tc = seconds([&] { c = curvature::on_grid(f, grid, b, curvature::Options{}); });
   std::size_t dims = 0;
   for (const auto& row : a.counts) dims = std::max(dims, row.size());
   std::printf("N=%zu max_density=%g points=%zu max_dimension=%zu chi_at_end=%s counts_s=%.4f "
-              "counts_with_nodes_s=%.4f node_curvature_s=%.4f curvature_all_s=%.4f factor_node=%.3f factor_all=%.3f "
-              "gauss_bonnet_exact=%d\n",
+              "counts_with_curvature_s=%.4f node_curvature_s=%.4f curvature_all_s=%.4f factor_node=%.3f "
+              "factor_all=%.3f gauss_bonnet_exact=%d arithmetic=%s",
               n, max_density, grid.size(), dims == 0 ? 0 : dims - 1, to_decimal(a.chi.back()).c_str(), ta, tb,
-              tc_nodes, tc, (tb + tc_nodes) / ta, (tb + tc) / ta, c.all_exact ? 1 : 0);
+              tc_nodes, tc, (tb + tc_nodes) / ta, (tb + tc) / ta, c.all_exact ? 1 : 0,
+              b.curvature_exact ? "exact" : "fixed_point");
+  if (old_route) {
+    cliques::Options with_nodes = plain;
+    with_nodes.node_counts = true;
+    cliques::GridCounts old;
+    const double t_old = seconds([&] { old = cliques::count_on_grid(f, grid, with_nodes, {}); });
+    double t_old_nodes = 0.0;
+    bool ok = true;
+    try {
+      t_old_nodes = seconds([&] { curvature::on_grid(f, grid, old, node_only); });
+    } catch (const std::exception&) {
+      ok = false;  // the counts were too large for a reliable sum
+    }
+    std::printf(" old_counts_with_nodes_s=%.4f old_node_curvature_s=%s old_factor_node=%s", t_old,
+                ok ? std::to_string(t_old_nodes).c_str() : "failed",
+                ok ? std::to_string((t_old + t_old_nodes) / ta).c_str() : "failed");
+  }
+  std::printf("\n");
   return 0;
 }

@@ -3,10 +3,13 @@
 // tests/reference/test_cliques_*.py.
 #include <catch2/catch.hpp>
 
+#include <cmath>
 #include <random>
+#include <utility>
 
 #include "base/error.hpp"
 #include "cliques/counts.hpp"
+#include "cliques/pivot_tree.hpp"
 
 using namespace critplex;
 using namespace critplex::cliques;
@@ -271,4 +274,117 @@ TEST_CASE("options: unknown keys and bad values are refused", "[cliques]") {
   Options o = parse_options(Json{{"max_dimension", 4}, {"threads", 2}});
   CHECK(o.max_dimension == 4);
   CHECK(o.threads == 2);
+}
+
+// --- node curvature from the leaves (Options::node_curvature) ---------------------
+
+TEST_CASE("leaf shares: the closed form equals the direct sum over the leaf's simplices", "[cliques][curvature]") {
+  // reference: Knill 2011 gives each node of a k-simplex (-1)^k / (k+1); a leaf with h
+  // holds and p pivots holds C(p, j) simplices of dimension 1 + h + j (METHODS.md). The
+  // direct sum, times D, must equal the table's integer: for u, v and a hold node
+  // sum_j C(p, j) (-1)^(1+h+j) D / (2+h+j); for a pivot node sum_{j>=1} C(p-1, j-1) (same term).
+  const std::size_t m = 30;
+  const CurvatureShares s = curvature_shares(m, false);
+  REQUIRE(s.exact);
+  LinkCounter pascal(0, 0, false);
+  for (std::size_t h = 0; h + 2 <= m; ++h)
+    for (std::size_t p = 0; h + p + 2 <= m; ++p) {
+      int128 own = 0, pivot = 0;
+      for (std::size_t j = 0; j <= p; ++j) {
+        REQUIRE(s.denominator % static_cast<int128>(2 + h + j) == 0);
+        const int128 term = ((1 + h + j) % 2 == 0 ? 1 : -1) * (s.denominator / static_cast<int128>(2 + h + j));
+        own += pascal.binomial(p, j) * term;
+        if (j >= 1) pivot += pascal.binomial(p - 1, j - 1) * term;
+      }
+      CHECK(s.hold(h, p) == own);
+      if (p >= 1) CHECK(s.hold(h + 1, p - 1) == pivot);
+    }
+  // Fixed point: the same shares over 2^126, rounded (error at most one unit, plus the
+  // binary128 rounding of the share, 2^-113 relative).
+  const CurvatureShares fixed = curvature_shares(m, true);
+  REQUIRE_FALSE(fixed.exact);
+  REQUIRE(fixed.denominator == int128{1} << 126);
+  for (std::size_t h = 0; h + 2 <= m; ++h)
+    for (std::size_t p = 0; h + p + 2 <= m; ++p) {
+      const Int256 a = Int256::product(fixed.hold(h, p), s.denominator);
+      const Int256 b = Int256::product(s.hold(h, p), fixed.denominator);
+      const double relative = std::fabs((a.ratio(1) - b.ratio(1)) / b.ratio(1));
+      CHECK(relative < 1e-30);
+    }
+  // lcm(1..88) < 2^127 < lcm(1..89) (89 is prime; values from Python's math.lcm).
+  CHECK(curvature_shares(88, false).exact);
+  CHECK_FALSE(curvature_shares(89, false).exact);
+}
+
+TEST_CASE("256-bit sums: wrap-free additions and exact products", "[cliques][curvature]") {
+  // reference: arithmetic by hand (2^100 * 2^100 = 2^200; -3 * 5 = -15)
+  const int128 two100 = int128{1} << 100;
+  const Int256 big = Int256::product(two100, two100);
+  CHECK(big.lo == 0);
+  CHECK(big.hi == uint128{1} << 72);
+  CHECK(Int256::product(-3, 5) == Int256::of(-15));
+  CHECK(Int256::product(-two100, -two100) == big);
+  Int256 s = Int256::of(-1);
+  s += int128{1};
+  CHECK(s == Int256{});
+  Int256 t;
+  for (int i = 0; i < 4; ++i) t += Int256::of(two100 << 26);  // 4 * 2^126 = 2^128 overflows int128
+  CHECK_FALSE(t.fits_int128());
+  CHECK(t.ratio(int128{1} << 100) == 268435456.0);  // 2^128 / 2^100 = 2^28
+  t += -Int256::product(two100 << 26, 4);
+  CHECK(t == Int256{});
+}
+
+TEST_CASE("curvature sums: threads, fixed point and the node-count route agree", "[cliques][curvature]") {
+  // reference: kappa_i = sum_k (-1)^k Cl_{i,k} / (k+1) (Knill 2011) from the node counts,
+  // which the test above checks by the handshake identity; and the same sums whatever the threads.
+  const std::uint32_t n = 90;
+  Filtration f = in_order(n, modular(n, 5, 0.8, 0.05, 11));
+  const auto grid = every(f);
+  Options o;
+  o.threads = 1;
+  o.node_curvature = true;
+  o.node_counts = true;
+  GridCounts a = count_on_grid(f, grid, o, {});
+  REQUIRE(a.complete_points == grid.size());
+  REQUIRE(a.curvature_exact);
+  for (int t : {2, 3}) {
+    Options p = o;
+    p.threads = t;
+    GridCounts b = count_on_grid(f, grid, p, {});
+    CHECK(b.curvature_numerators == a.curvature_numerators);
+    CHECK(b.counts == a.counts);
+  }
+  Options fixed = o;
+  fixed.curvature_fixed_point = true;
+  fixed.threads = 2;
+  GridCounts c = count_on_grid(f, grid, fixed, {});
+  fixed.threads = 1;
+  CHECK(count_on_grid(f, grid, fixed, {}).curvature_numerators == c.curvature_numerators);
+  for (std::size_t g = 0; g < grid.size(); g += 17) {
+    for (std::size_t i = 0; i < n; ++i) {
+      // From the node counts, over lcm(1..K+1).
+      const auto& row = a.node_counts[g][i];
+      int128 d = 1;
+      for (std::size_t k = 1; k <= row.size(); ++k) {
+        int128 x = d, y = static_cast<int128>(k);
+        while (y != 0) x = std::exchange(y, x % y);
+        d = d / x * static_cast<int128>(k);
+      }
+      int128 num = 0;
+      for (std::size_t k = 0; k < row.size(); ++k) num += (k % 2 == 0 ? 1 : -1) * row[k] * (d / static_cast<int128>(k + 1));
+      const Int256& sum = a.curvature_numerators[g][i];
+      REQUIRE(sum.fits_int128());
+      CHECK(Int256::product(static_cast<int128>(sum.lo), d) == Int256::product(num, a.curvature_denominator));
+      CHECK(c.curvature_numerators[g][i].ratio(c.curvature_denominator) == Approx(sum.ratio(a.curvature_denominator)).margin(1e-14));
+    }
+  }
+}
+
+TEST_CASE("curvature is refused with chi_only", "[cliques][curvature]") {
+  Filtration f = in_order(6, octahedron());
+  Options o;
+  o.chi_only = true;
+  o.node_curvature = true;
+  CHECK_THROWS_AS(count_on_grid(f, every(f), o, {}), Error);
 }

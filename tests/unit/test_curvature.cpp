@@ -12,6 +12,7 @@
 #include "curvature/curvature.hpp"
 #include "curvature/on_grid.hpp"
 #include "filtration/filtration.hpp"
+#include "pipeline/sweep.hpp"
 
 using namespace critplex;
 using namespace critplex::curvature;
@@ -19,6 +20,12 @@ using namespace critplex::curvature;
 namespace {
 
 using EdgeList = std::vector<std::pair<std::uint32_t, std::uint32_t>>;
+
+// A 256-bit numerator that the test expects to fit 128 bits.
+int128 small(const cliques::Int256& x) {
+  REQUIRE(x.fits_int128());
+  return static_cast<int128>(x.lo);
+}
 
 // Brute force: list every clique and count, per node, the cliques of each size that
 // contain it (node_counts[i][k]: cliques of k + 1 nodes). Independent of the clique engine.
@@ -121,7 +128,7 @@ TEST_CASE("octahedron: every node has curvature 1/3, sum 2", "[curvature]") {
   REQUIRE(c.exact);
   for (std::size_t i = 0; i < 6; ++i) {
     CHECK(c.kappa[i] == Approx(1.0 / 3.0).epsilon(1e-15));
-    CHECK(c.numerators[i] * 3 == c.denominator);  // exactly 1/3
+    CHECK(small(c.numerators[i]) * 3 == c.denominator);  // exactly 1/3
   }
   GaussBonnet g = check_gauss_bonnet(c, b.chi);
   CHECK(g.exact);
@@ -138,7 +145,7 @@ TEST_CASE("icosahedron: every node has curvature 1/6, sum 2", "[curvature]") {
   NodeCurvature c = node_curvature(b.node_counts);
   for (std::size_t i = 0; i < 12; ++i) {
     CHECK(c.kappa[i] == Approx(1.0 / 6.0).epsilon(1e-15));
-    CHECK(c.numerators[i] * 6 == c.denominator);
+    CHECK(small(c.numerators[i]) * 6 == c.denominator);
   }
   CHECK(check_gauss_bonnet(c, b.chi).exact);
 }
@@ -298,4 +305,180 @@ TEST_CASE("curvature options are checked", "[curvature]") {
   CHECK_FALSE(o.auto_bins);
   CHECK(o.bins == 7);
   CHECK_FALSE(o.forman);
+}
+
+namespace {
+
+// A filtration whose edges enter in the order given (strictly decreasing weights).
+filtration::Filtration in_order(std::size_t n, const EdgeList& edges) {
+  filtration::Filtration f;
+  f.nodes = n;
+  double w = 1.0;
+  for (auto [a, b] : edges) {
+    f.edges.push_back(filtration::Edge{std::min(a, b), std::max(a, b), w, w});
+    w *= 0.999;
+  }
+  return f;
+}
+
+EdgeList prefix(const filtration::Filtration& f, std::size_t m) {
+  EdgeList e;
+  for (std::size_t i = 0; i < m; ++i) e.emplace_back(f.edges[i].u, f.edges[i].v);
+  return e;
+}
+
+}  // namespace
+
+TEST_CASE("curvature summed from the pivoting tree's leaves equals the brute-force node counts", "[curvature]") {
+  // reference: brute-force clique listing above, kappa_i = sum_k (-1)^k Cl_{i,k} / (k+1)
+  // (Knill 2011) in exact rationals; the engine sums closed-form leaf shares instead.
+  std::mt19937_64 rng(41);
+  std::vector<filtration::Filtration> cases;
+  for (int trial = 0; trial < 6; ++trial) {
+    const std::size_t n = 8 + 2 * static_cast<std::size_t>(trial);
+    EdgeList e = random_graph(n, 0.35 + 0.08 * trial, rng);
+    std::shuffle(e.begin(), e.end(), rng);
+    cases.push_back(in_order(n, e));
+  }
+  cases.push_back(in_order(6, octahedron()));
+  cases.push_back(in_order(12, icosahedron()));
+  for (int trial = 0; trial < 3; ++trial)
+    cases.push_back(filtration::build(brain_like(15, 100, rng), filtration::WeightMode::positive, 0.8));
+  for (const auto& f : cases) {
+    filtration::GridSpec spec;
+    spec.step = 0.05;
+    const auto grid = filtration::make_grid(f, spec);
+    std::vector<NodeCurvature> expected;
+    std::vector<int128> chi;
+    for (const auto& point : grid) {
+      Brute b = brute_force(f.nodes, prefix(f, point.edges));
+      expected.push_back(node_curvature(b.node_counts));
+      REQUIRE(expected.back().exact);
+      chi.push_back(b.chi);
+    }
+    for (bool fixed : {false, true}) {
+      cliques::GridCounts first;
+      for (int threads : {1, 2}) {
+        cliques::Options o;
+        o.node_curvature = true;
+        o.curvature_fixed_point = fixed;
+        o.threads = threads;
+        cliques::GridCounts gc = cliques::count_on_grid(f, grid, o, {});
+        REQUIRE(gc.complete_points == grid.size());
+        CHECK(gc.curvature_exact == !fixed);
+        CHECK(gc.node_counts.empty());  // curvature does not need the per-size counts
+        if (threads == 1) first = gc;
+        else CHECK(gc.curvature_numerators == first.curvature_numerators);  // identical whatever the threads
+        for (std::size_t g = 0; g < grid.size(); ++g) {
+          CHECK(gc.chi[g] == chi[g]);
+          const NodeCurvature got = node_curvature_from_sums(gc.curvature_numerators[g], gc.curvature_denominator,
+                                                             gc.curvature_exact);
+          const NodeCurvature& want = expected[g];
+          for (std::size_t i = 0; i < f.nodes; ++i) {
+            if (fixed) {
+              CHECK(got.kappa[i] == Approx(want.kappa[i]).margin(1e-15));
+            } else {
+              // Same rational: got / D_got == want / D_want.
+              CHECK(cliques::Int256::product(small(got.numerators[i]), want.denominator) ==
+                    cliques::Int256::product(small(want.numerators[i]), got.denominator));
+              CHECK(got.kappa[i] == want.kappa[i]);
+            }
+          }
+          const GaussBonnet gb = check_gauss_bonnet(got, gc.chi[g]);
+          CHECK(gb.exact == !fixed);
+          CHECK(gb.method == (fixed ? "fixed point" : "exact rational"));
+          CHECK(gb.relative_error < 1e-12);
+        }
+      }
+    }
+  }
+}
+
+TEST_CASE("Gauss-Bonnet on the engine's sums fails loudly when a sum is off", "[curvature]") {
+  // A triangle: kappa = 1/3 per node (1 - 2/2 + 1/3), chi = 1; D = 6.
+  std::vector<cliques::Int256> sums(3, cliques::Int256::of(2));
+  CHECK(check_gauss_bonnet(node_curvature_from_sums(sums, 6, true), 1).exact);
+  CHECK_THROWS_AS(check_gauss_bonnet(node_curvature_from_sums(sums, 6, true), 2), Error);
+  sums[0] += int128{1};  // off by 1/6
+  CHECK_THROWS_AS(check_gauss_bonnet(node_curvature_from_sums(sums, 6, true), 1), Error);
+  CHECK_THROWS_AS(check_gauss_bonnet(node_curvature_from_sums(sums, 6, false), 1), Error);
+}
+
+TEST_CASE("a sweep with curvature no longer carries node counts; asked for, they still come", "[curvature]") {
+  // reference: the octahedron's node counts 1, 4, 4 and kappa 1/3 (METHODS.md, Knill 2011)
+  connectivity::Matrix m;
+  m.values = Eigen::MatrixXd::Constant(6, 6, -1.0);  // only the octahedron's edges are positive
+  for (auto [u, v] : octahedron()) m.values(u, v) = m.values(v, u) = 1.0;
+  m.values.diagonal().setOnes();
+  for (int i = 0; i < 6; ++i) m.names.push_back("r" + std::to_string(i));
+  for (bool ask_counts : {false, true}) {
+    Json options{{"grid", "every"}, {"curvature", Json::object()}};
+    if (ask_counts) options["cliques"] = Json{{"node_counts", true}};
+    const pipeline::SweepResult r = pipeline::run_sweep(m, pipeline::parse_sweep_options(options), {});
+    const Json& last = r.sections.at("cliques")["points"].back();
+    CHECK(last.contains("node_counts") == ask_counts);
+    if (ask_counts)
+      for (const auto& row : last["node_counts"]) CHECK(row == Json{"1", "4", "4"});
+    const Json& kappa = r.sections.at("curvature")["node_kappa"]["values"];
+    for (const auto& curve : kappa) CHECK(curve.back().get<double>() == Approx(1.0 / 3.0).epsilon(1e-15));
+    CHECK(r.sections.at("curvature")["gauss_bonnet"]["all_exact"].get<bool>());
+  }
+}
+
+TEST_CASE("Forman-Ricci edge by edge equals the recomputation at every prefix", "[curvature]") {
+  // reference: forman_ricci above (checked by hand against F = 4 - deg u - deg v + 3 t),
+  // recomputed from scratch at every prefix of random and brain-like filtrations
+  std::mt19937_64 rng(53);
+  std::vector<std::pair<std::size_t, EdgeList>> cases;
+  for (int trial = 0; trial < 4; ++trial) {
+    const std::size_t n = 6 + 5 * static_cast<std::size_t>(trial);
+    EdgeList e = random_graph(n, 0.6, rng);
+    std::shuffle(e.begin(), e.end(), rng);
+    cases.emplace_back(n, e);
+  }
+  filtration::Filtration b = filtration::build(brain_like(70, 100, rng), filtration::WeightMode::positive, 0.5);
+  cases.emplace_back(70, prefix(b, b.edges.size()));  // 70 nodes: rows of two words
+  {
+    // Above 2048 nodes the pair -> edge index is a hash map: a dense corner of a big graph.
+    EdgeList e = random_graph(40, 0.7, rng);
+    for (auto& [u, v] : e) u += 2000, v += 2000;
+    e.emplace_back(3, 2099);
+    std::shuffle(e.begin(), e.end(), rng);
+    cases.emplace_back(2100, e);
+  }
+  for (const auto& [n, e] : cases) {
+    FormanSweep sweep(n, e);
+    for (std::size_t m = 0; m <= e.size(); m += (m < 40 ? 1 : 7)) {
+      sweep.advance(m);
+      const Forman want = forman_ricci(n, e, m);
+      std::vector<double> got_values;
+      for (std::size_t i = 0; i < m; ++i) got_values.push_back(sweep.value(i));
+      CHECK(got_values == want.edge_values);
+      const std::vector<double> got_mean = sweep.node_mean();
+      for (std::size_t i = 0; i < n; ++i)
+        CHECK((std::isnan(want.node_mean[i]) ? std::isnan(got_mean[i]) : got_mean[i] == want.node_mean[i]));
+      // The tally's distribution equals the one of the listed values.
+      const std::vector<double> levels{0.0, 0.1, 0.5, 0.9, 1.0};
+      const auto edges_of_bins = fixed_bins(-20.0, 10.0, 7);
+      const Distribution d = describe(want.edge_values, levels, edges_of_bins);
+      const Distribution t = describe_tally(sweep.tally(), levels, edges_of_bins);
+      CHECK(t.count == d.count);
+      if (m == 0) continue;
+      CHECK(t.mean == Approx(d.mean).epsilon(1e-14));
+      CHECK(t.min == d.min);
+      CHECK(t.max == d.max);
+      CHECK(t.quantiles == d.quantiles);
+      CHECK(t.histogram == d.histogram);
+      CHECK(t.below == d.below);
+      CHECK(t.above == d.above);
+      CHECK(t.sd == Approx(d.sd).epsilon(1e-12).margin(1e-12));
+      if (std::isnan(d.skewness)) {
+        CHECK(std::isnan(t.skewness));
+      } else {
+        CHECK(t.skewness == Approx(d.skewness).epsilon(1e-9).margin(1e-9));
+        CHECK(t.kurtosis == Approx(d.kurtosis).epsilon(1e-9).margin(1e-9));
+      }
+      if (m >= 4) CHECK(freedman_diaconis_bins_tally(sweep.tally(), 60) == freedman_diaconis_bins(want.edge_values, 60));
+    }
+  }
 }
