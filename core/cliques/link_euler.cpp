@@ -3,43 +3,7 @@
 #include <algorithm>
 #include <bit>
 
-#if defined(__x86_64__) && defined(__GNUC__)
-#include <immintrin.h>
-#define CRITPLEX_HAVE_PEXT_PATH 1
-#endif
-
-// Popcount-heavy loops get a POPCNT copy picked at load time (as in pivot_tree.cpp).
-#if defined(__x86_64__) && defined(__GNUC__) && !defined(__clang__)
-#define CRITPLEX_POPCOUNT_CLONES __attribute__((target_clones("popcnt", "default")))
-#else
-#define CRITPLEX_POPCOUNT_CLONES
-#endif
-
 namespace critplex::cliques {
-
-namespace {
-
-// The bits of `value` at the positions set in `mask`, packed to the low end (what the
-// BMI2 instruction PEXT does): renumbers one word of a row onto the link's members.
-std::uint64_t extract_portable(std::uint64_t value, std::uint64_t mask) {
-  std::uint64_t out = 0;
-  for (std::uint64_t bit = 1; mask; mask &= mask - 1, bit <<= 1)
-    if (value & mask & (~mask + 1)) out |= bit;
-  return out;
-}
-
-#ifdef CRITPLEX_HAVE_PEXT_PATH
-__attribute__((target("bmi2"))) std::uint64_t extract_bmi2(std::uint64_t value, std::uint64_t mask) {
-  return _pext_u64(value, mask);
-}
-using Extract = std::uint64_t (*)(std::uint64_t, std::uint64_t);
-Extract pick_extract() {
-  __builtin_cpu_init();
-  return __builtin_cpu_supports("bmi2") ? extract_bmi2 : extract_portable;
-}
-#endif
-
-}  // namespace
 
 LinkEuler::LinkEuler(std::size_t nodes) : words_((nodes + 63) / 64) {}
 
@@ -91,33 +55,10 @@ int128 LinkEuler::link_sum(const BitGraph& g, std::uint32_t u, std::uint32_t v, 
     if (d + 1 == c) return 0;
   }
 
-  // Renumber the link 0..c-1 and copy its adjacency into rows of ceil(c / 64) words, so
-  // every set operation of the walk touches only the link.
-#ifdef CRITPLEX_HAVE_PEXT_PATH
-  static const Extract extract = pick_extract();
-#else
-  const auto extract = extract_portable;
-#endif
-  members_.clear();
-  for (std::size_t w = lo; w < hi; ++w)
-    for (std::uint64_t bits = common_[w]; bits; bits &= bits - 1)
-      members_.push_back(static_cast<std::uint32_t>(w * 64 + static_cast<std::size_t>(std::countr_zero(bits))));
+  // Renumber the link 0..c-1 with compact rows, so every set operation of the walk
+  // touches only the link.
+  renumber_link(g, common_.data(), members_, local_);
   lw_ = (c + 63) / 64;
-  local_.assign(c * lw_, 0);
-  for (std::size_t i = 0; i < c; ++i) {
-    const std::uint64_t* in = g.row(members_[i]);
-    std::uint64_t* out = local_.data() + i * lw_;
-    std::size_t at = 0;
-    for (std::size_t w = lo; w < hi; ++w) {
-      if (!common_[w]) continue;
-      const std::uint64_t bits = extract(in[w], common_[w]);
-      const std::size_t length = static_cast<std::size_t>(std::popcount(common_[w]));
-      const std::size_t shift = at % 64;
-      out[at / 64] |= bits << shift;
-      if (shift != 0 && shift + length > 64) out[at / 64 + 1] |= bits >> (64 - shift);
-      at += length;
-    }
-  }
   // Depth never exceeds c + 1; every depth has its candidate set and its rest.
   if (sets_.size() < (c + 2) * lw_) {
     sets_.resize((c + 2) * lw_);

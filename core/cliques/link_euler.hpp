@@ -42,7 +42,6 @@ class LinkEuler {
   std::size_t words_;                   // words of a global row
   std::size_t lw_ = 0;                  // words of a local (renumbered link) row
   std::vector<std::uint32_t> members_;  // local number -> global node
-  std::vector<std::uint32_t> rank_;     // link members in earlier global words
   std::vector<std::uint64_t> common_, local_;
   std::vector<std::uint64_t> sets_, rest_;        // per depth, lw_ words each
   std::vector<std::uint32_t> degree_;             // per depth, one entry per link node

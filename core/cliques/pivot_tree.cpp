@@ -4,12 +4,8 @@
 #include <bit>
 #include <utility>
 
-// The hot loops are popcounts; x86-64 builds get a second copy using the POPCNT
-// instruction, picked at load time, so one binary runs everywhere at full speed.
-#if defined(__x86_64__) && defined(__GNUC__) && !defined(__clang__)
-#define CRITPLEX_POPCOUNT_CLONES __attribute__((target_clones("popcnt", "default")))
-#else
-#define CRITPLEX_POPCOUNT_CLONES
+#if defined(__x86_64__) && defined(__GNUC__)
+#include <immintrin.h>
 #endif
 
 namespace critplex::cliques {
@@ -22,6 +18,68 @@ void BitGraph::add_edge(std::uint32_t u, std::uint32_t v) {
   bits_[v * words_ + u / 64] |= std::uint64_t{1} << (u % 64);
   ++degree_[u];
   ++degree_[v];
+}
+
+namespace {
+
+// The bits of `value` at the positions set in `mask`, packed to the low end (what the
+// BMI2 instruction PEXT does): renumbers one word of a row onto the link's members.
+std::uint64_t extract_portable(std::uint64_t value, std::uint64_t mask) {
+  std::uint64_t out = 0;
+  for (std::uint64_t bit = 1; mask; mask &= mask - 1, bit <<= 1)
+    if (value & mask & (~mask + 1)) out |= bit;
+  return out;
+}
+
+#if defined(__x86_64__) && defined(__GNUC__)
+__attribute__((target("bmi2"))) std::uint64_t extract_bmi2(std::uint64_t value, std::uint64_t mask) {
+  return _pext_u64(value, mask);
+}
+#endif
+
+using Extract = std::uint64_t (*)(std::uint64_t, std::uint64_t);
+Extract pick_extract() {
+#if defined(__x86_64__) && defined(__GNUC__)
+  __builtin_cpu_init();
+  if (__builtin_cpu_supports("bmi2")) return extract_bmi2;
+#endif
+  return extract_portable;
+}
+
+}  // namespace
+
+CRITPLEX_POPCOUNT_CLONES
+std::size_t renumber_link(const BitGraph& g, const std::uint64_t* common, std::vector<std::uint32_t>& members,
+                          std::vector<std::uint64_t>& rows) {
+  static const Extract extract = pick_extract();
+  const std::size_t words = g.words();
+  std::size_t lo = words, hi = 0;
+  members.clear();
+  for (std::size_t w = 0; w < words; ++w)
+    if (common[w]) {
+      lo = std::min(lo, w);
+      hi = w + 1;
+      for (std::uint64_t bits = common[w]; bits; bits &= bits - 1)
+        members.push_back(static_cast<std::uint32_t>(w * 64 + static_cast<std::size_t>(std::countr_zero(bits))));
+    }
+  const std::size_t c = members.size();
+  const std::size_t lw = (c + 63) / 64;
+  rows.assign(c * lw, 0);
+  for (std::size_t i = 0; i < c; ++i) {
+    const std::uint64_t* in = g.row(members[i]);
+    std::uint64_t* out = rows.data() + i * lw;
+    std::size_t at = 0;  // local number of the first member in word w
+    for (std::size_t w = lo; w < hi; ++w) {
+      if (!common[w]) continue;
+      const std::uint64_t bits = extract(in[w], common[w]);
+      const std::size_t length = static_cast<std::size_t>(std::popcount(common[w]));
+      const std::size_t shift = at % 64;
+      out[at / 64] |= bits << shift;
+      if (shift != 0 && shift + length > 64) out[at / 64 + 1] |= bits >> (64 - shift);
+      at += length;
+    }
+  }
+  return c;
 }
 
 void IntervalTally::add_leaf(std::size_t h, std::size_t p) {
@@ -129,33 +187,10 @@ void LinkCounter::count_edge(const BitGraph& g, std::uint32_t u, std::uint32_t v
   const std::uint64_t* rv = g.row(v);
   ++tally.edges;
   ++tally.work;
-  // Full counts: renumber the common neighbourhood 0..c-1 and copy its adjacency into
-  // rows of ceil(c / 64) words, so every set operation below touches only the link.
   common_.resize(words_);
-  rank_.resize(words_);
-  members_.clear();
-  for (std::size_t w = 0; w < words_; ++w) {
-    common_[w] = ru[w] & rv[w];
-    rank_[w] = static_cast<std::uint32_t>(members_.size());
-    for (std::uint64_t bits = common_[w]; bits; bits &= bits - 1)
-      members_.push_back(static_cast<std::uint32_t>(w * 64 + static_cast<std::size_t>(std::countr_zero(bits))));
-  }
-  const std::size_t c = members_.size();
+  for (std::size_t w = 0; w < words_; ++w) common_[w] = ru[w] & rv[w];
+  const std::size_t c = renumber_link(g, common_.data(), members_, local_);
   lw_ = (c + 63) / 64;
-  compact_ = true;
-  local_.assign(c * lw_, 0);
-  for (std::size_t i = 0; i < c; ++i) {
-    const std::uint64_t* row = g.row(members_[i]);
-    std::uint64_t* out = local_.data() + i * lw_;
-    for (std::size_t w = 0; w < words_; ++w) {
-      if (!common_[w]) continue;
-      for (std::uint64_t bits = row[w] & common_[w]; bits; bits &= bits - 1) {
-        const std::uint64_t below = (std::uint64_t{1} << std::countr_zero(bits)) - 1;
-        const std::size_t j = rank_[w] + static_cast<std::size_t>(std::popcount(common_[w] & below));
-        out[j / 64] |= std::uint64_t{1} << (j % 64);
-      }
-    }
-  }
   rows_ = local_.data();
   std::uint64_t* root = sets_.data();
   for (std::size_t w = 0; w < lw_; ++w) root[w] = ~std::uint64_t{0};

@@ -10,6 +10,14 @@
 #include "base/exact.hpp"
 #include "cliques/int256.hpp"
 
+// The hot loops are popcounts; x86-64 builds get a second copy using the POPCNT
+// instruction, picked at load time, so one binary runs everywhere at full speed.
+#if defined(__x86_64__) && defined(__GNUC__) && !defined(__clang__)
+#define CRITPLEX_POPCOUNT_CLONES __attribute__((target_clones("popcnt", "default")))
+#else
+#define CRITPLEX_POPCOUNT_CLONES
+#endif
+
 namespace critplex::cliques {
 
 // Undirected graph as one bitset row per node; rows are `words` 64-bit words long.
@@ -52,6 +60,12 @@ struct CurvatureShares {
 };
 // The table for cliques of at most max_clique nodes; fixed point when force_fixed_point.
 CurvatureShares curvature_shares(std::size_t max_clique, bool force_fixed_point);
+
+// Renumbers the nodes set in `common` (a global row) to 0..c-1 in increasing order into
+// `members` (local -> global) and writes their adjacency among themselves into `rows`,
+// ceil(c / 64) words per row, so the walks touch only the link. Returns c.
+std::size_t renumber_link(const BitGraph& g, const std::uint64_t* common, std::vector<std::uint32_t>& members,
+                          std::vector<std::uint64_t>& rows);
 
 // What the leaves of the trees of one grid interval add up to. Leaves are tallied by
 // (holds h, pivots p) and turned into clique counts later (C(p, j) cliques of h + j
@@ -99,18 +113,16 @@ class LinkCounter {
   void take_shares(std::size_t depth, std::uint32_t x, bool as_hold);
   void tick();
   const std::uint64_t* row(std::size_t x) const { return rows_ + x * lw_; }
-  std::uint32_t global(std::uint32_t x) const { return compact_ ? members_[x] : x; }
+  std::uint32_t global(std::uint32_t x) const { return members_[x]; }
 
   IntervalTally* tally_ = nullptr;
   const std::function<bool()>* poll_ = nullptr;
   std::size_t max_nodes_;
   bool node_counts_;
   std::size_t words_;                  // words of a global row
-  const std::uint64_t* rows_ = nullptr;  // adjacency rows the walk reads (global or local)
+  const std::uint64_t* rows_ = nullptr;  // the renumbered link's adjacency rows
   std::size_t lw_ = 0;                 // words of those rows
-  bool compact_ = false;               // rows are the renumbered link (full counts)
   std::vector<std::uint32_t> members_; // local number -> global node
-  std::vector<std::uint32_t> rank_;    // members in earlier words
   std::vector<std::uint64_t> common_, local_;
   std::vector<std::uint64_t> sets_;   // per depth: the candidate set
   std::vector<std::uint64_t> rest_;   // per depth: candidates not yet branched on
