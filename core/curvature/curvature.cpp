@@ -287,6 +287,21 @@ double quantile_sorted(const std::vector<double>& sorted, double q) {
   return sorted[lo] + (h - static_cast<double>(lo)) * (sorted[hi] - sorted[lo]);
 }
 
+// Standard deviation, skewness g1 and excess kurtosis g2 from the central moments
+// m2, m3, m4 (divided by n). A constant sample has no spread and no shape (scipy gives
+// NaN too); its mean is set to the value itself, free of rounding.
+static void set_shape(Distribution& d, double m2, double m3, double m4) {
+  if (d.min == d.max) {
+    d.mean = d.min;
+    d.sd = 0.0;
+    d.skewness = d.kurtosis = not_a_number;
+  } else {
+    d.sd = std::sqrt(m2);
+    d.skewness = m3 / std::pow(m2, 1.5);
+    d.kurtosis = m4 / (m2 * m2) - 3.0;
+  }
+}
+
 Distribution describe(const std::vector<double>& values, const std::vector<double>& levels,
                       const std::vector<double>& bin_edges) {
   Distribution d;
@@ -311,19 +326,7 @@ Distribution describe(const std::vector<double>& values, const std::vector<doubl
     m3 += x * x * x;
     m4 += x * x * x * x;
   }
-  m2 /= n;
-  m3 /= n;
-  m4 /= n;
-  if (d.min == d.max) {
-    // A constant sample: no spread, shape undefined (scipy gives NaN too).
-    d.mean = d.min;
-    d.sd = 0.0;
-    d.skewness = d.kurtosis = not_a_number;
-  } else {
-    d.sd = std::sqrt(m2);
-    d.skewness = m3 / std::pow(m2, 1.5);
-    d.kurtosis = m4 / (m2 * m2) - 3.0;
-  }
+  set_shape(d, m2 / n, m3 / n, m4 / n);
   for (double q : levels) d.quantiles.push_back(quantile_sorted(sorted, q));
   if (bins > 0) {
     for (double v : sorted) {
@@ -394,17 +397,7 @@ Distribution describe_tally(const IntegerTally& values, const std::vector<double
     m4 += c * x * x * x * x;
     bin_value(value_of(k), values.counts[k], bin_edges, d);
   }
-  m2 /= n;
-  m3 /= n;
-  m4 /= n;
-  if (d.min == d.max) {
-    d.sd = 0.0;
-    d.skewness = d.kurtosis = not_a_number;
-  } else {
-    d.sd = std::sqrt(m2);
-    d.skewness = m3 / std::pow(m2, 1.5);
-    d.kurtosis = m4 / (m2 * m2) - 3.0;
-  }
+  set_shape(d, m2 / n, m3 / n, m4 / n);
   for (double q : levels) d.quantiles.push_back(quantile_at(d.count, q, [&](std::size_t r) { return values.at(r); }));
   return d;
 }

@@ -9,6 +9,7 @@
 
 #include "base/error.hpp"
 #include "cliques/counts.hpp"
+#include "clique_fixtures.hpp"
 #include "cliques/pivot_tree.hpp"
 
 using namespace critplex;
@@ -18,25 +19,9 @@ using filtration::Filtration;
 
 namespace {
 
-using EdgeList = std::vector<std::pair<std::uint32_t, std::uint32_t>>;
-
-// A filtration whose edges enter in list order (strictly decreasing weights, no ties).
-Filtration in_order(std::size_t n, const EdgeList& edges) {
-  Filtration f;
-  f.nodes = n;
-  double w = 1.0;
-  for (auto [a, b] : edges) {
-    f.edges.push_back(Edge{std::min(a, b), std::max(a, b), w, w});
-    w *= 0.999;
-  }
-  return f;
-}
-
-std::vector<filtration::GridPoint> every(const Filtration& f) {
-  filtration::GridSpec spec;
-  spec.kind = "every";
-  return filtration::make_grid(f, spec);
-}
+using test::EdgeList;
+using test::every;
+using test::in_order;
 
 GridCounts run(const Filtration& f, Options o = {}) { return count_on_grid(f, every(f), o, {}); }
 

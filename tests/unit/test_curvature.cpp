@@ -8,6 +8,7 @@
 #include <set>
 
 #include "base/error.hpp"
+#include "clique_fixtures.hpp"
 #include "cliques/counts.hpp"
 #include "curvature/curvature.hpp"
 #include "curvature/on_grid.hpp"
@@ -19,7 +20,7 @@ using namespace critplex::curvature;
 
 namespace {
 
-using EdgeList = std::vector<std::pair<std::uint32_t, std::uint32_t>>;
+using test::EdgeList;
 
 // A 256-bit numerator that the test expects to fit 128 bits.
 int128 small(const cliques::Int256& x) {
@@ -309,17 +310,7 @@ TEST_CASE("curvature options are checked", "[curvature]") {
 
 namespace {
 
-// A filtration whose edges enter in the order given (strictly decreasing weights).
-filtration::Filtration in_order(std::size_t n, const EdgeList& edges) {
-  filtration::Filtration f;
-  f.nodes = n;
-  double w = 1.0;
-  for (auto [a, b] : edges) {
-    f.edges.push_back(filtration::Edge{std::min(a, b), std::max(a, b), w, w});
-    w *= 0.999;
-  }
-  return f;
-}
+using test::in_order;
 
 EdgeList prefix(const filtration::Filtration& f, std::size_t m) {
   EdgeList e;

@@ -8,6 +8,7 @@
 #include <random>
 
 #include "cliques/counts.hpp"
+#include "clique_fixtures.hpp"
 
 using namespace critplex;
 using namespace critplex::cliques;
@@ -16,24 +17,9 @@ using filtration::Filtration;
 
 namespace {
 
-using EdgeList = std::vector<std::pair<std::uint32_t, std::uint32_t>>;
-
-Filtration in_order(std::size_t n, const EdgeList& edges) {
-  Filtration f;
-  f.nodes = n;
-  double w = 1.0;
-  for (auto [a, b] : edges) {
-    f.edges.push_back(Edge{std::min(a, b), std::max(a, b), w, w});
-    w *= 0.9999;
-  }
-  return f;
-}
-
-std::vector<filtration::GridPoint> every(const Filtration& f) {
-  filtration::GridSpec spec;
-  spec.kind = "every";
-  return filtration::make_grid(f, spec);
-}
+using test::EdgeList;
+using test::every;
+using test::in_order;
 
 // sum over the independent sets I of a small graph (nodes 0..k-1) of (-1)^|I|, by
 // trying every subset: the independence polynomial at -1.
