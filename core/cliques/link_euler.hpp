@@ -45,7 +45,7 @@ class LinkEuler {
   std::vector<std::uint64_t> common_, local_;
   std::vector<std::uint64_t> sets_, rest_;        // per depth, lw_ words each
   std::vector<std::uint32_t> degree_;             // per depth, one entry per link node
-  std::vector<std::uint32_t> order_;              // per depth: the branch nodes, in order
+  std::vector<std::uint64_t> order_;              // per depth: (degree << 32 | node) of the branch nodes
   std::uint64_t* work_ = nullptr;
   const std::function<bool()>* poll_ = nullptr;
   std::uint64_t since_poll_ = 0;
