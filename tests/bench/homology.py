@@ -24,9 +24,11 @@ import time
 
 import numpy as np
 
-# Edge order, ripser input and output parsing shared with the homology reference test.
-sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), "..", "reference"))
-from ripser_ranks import edge_order, parse_intervals, write_rank_matrix  # noqa: E402
+# Edge order, the peers' inputs and ripser's output parsing are shared with the
+# homology reference test (the gudhi run below imports them in its own process).
+REFERENCE_DIR = os.path.join(os.path.dirname(os.path.abspath(__file__)), "..", "reference")
+sys.path.insert(0, REFERENCE_DIR)
+from rank_filtration import edge_order, parse_intervals, write_rank_matrix  # noqa: E402
 
 
 def brain_like(n, frames=600, modules=7, seed=1):
@@ -59,16 +61,12 @@ def timed(command):
 
 
 GUDHI_SCRIPT = r"""
-import sys, time, numpy as np, gudhi
-path, dim = sys.argv[1], int(sys.argv[2])
+import sys, numpy as np
+path, dim, reference_dir = sys.argv[1], int(sys.argv[2]), sys.argv[3]
+sys.path.insert(0, reference_dir)
+from rank_filtration import gudhi_tree
 data = np.load(path)
-n, iu, ju = int(data["n"]), data["iu"], data["ju"]
-st = gudhi.SimplexTree()
-for v in range(n):
-    st.insert([v], 0.0)
-for r, (i, j) in enumerate(zip(iu, ju), start=1):
-    st.insert([int(i), int(j)], float(r))
-st.expansion(dim + 1)
+st = gudhi_tree(int(data["n"]), data["iu"], data["ju"], dim)
 st.persistence(homology_coeff_field=2, persistence_dim_max=True)
 print(sum(1 for _ in st.persistence_intervals_in_dimension(1)))
 """
@@ -113,7 +111,7 @@ def main():
             if gudhi and (n, rho, k) in [(200, 0.1, 2), (200, 0.2, 2), (400, 0.1, 2)]:
                 gpath = os.path.join(tmp, "edges.npz")
                 np.savez(gpath, n=n, iu=iu, ju=ju)
-                _, t_g, _ = timed(["/usr/bin/python3", "-c", GUDHI_SCRIPT, gpath, str(k)])
+                _, t_g, _ = timed(["/usr/bin/python3", "-c", GUDHI_SCRIPT, gpath, str(k), REFERENCE_DIR])
                 g_text, g_ratio = f"{t_g:7.2f}", f"{t_g / max(t_ours, 1e-3):10.1f}"
             print(f"{n:>4} {rho:>4} {k:>2} {m:>6} | {t_ours:7.2f} {t_rip:8.2f} {t_ours / max(t_rip, 1e-3):5.2f} "
                   f"{t_more:9.2f} {t_more / max(t_rip, 1e-3):5.2f} | "

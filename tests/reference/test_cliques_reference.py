@@ -68,27 +68,26 @@ def graph_after(matrix, m):
     return g
 
 
-def networkx_counts(g):
-    import networkx as nx
+def counts_by_dimension(cliques):
+    """Cl_k from a list of cliques (each a list of nodes): k = size - 1."""
     counts = []
-    for c in nx.enumerate_all_cliques(g):
+    for c in cliques:
         k = len(c) - 1
         while len(counts) <= k:
             counts.append(0)
         counts[k] += 1
     return counts
+
+
+def networkx_counts(g):
+    import networkx as nx
+    return counts_by_dimension(nx.enumerate_all_cliques(g))
 
 
 def igraph_counts(g):
     import igraph
     h = igraph.Graph(n=g.number_of_nodes(), edges=list(g.edges()))
-    counts = []
-    for c in h.cliques():
-        k = len(c) - 1
-        while len(counts) <= k:
-            counts.append(0)
-        counts[k] += 1
-    return counts
+    return counts_by_dimension(h.cliques())
 
 
 def chi_of(counts):

@@ -20,7 +20,7 @@ import unittest
 
 import numpy as np
 
-from ripser_ranks import edge_order, parse_intervals, write_rank_matrix
+from rank_filtration import edge_order, gudhi_tree, parse_intervals, write_rank_matrix
 
 CLI = os.environ.get("CRITPLEX_CLI")
 NITIME_CSV = "/usr/lib/python3/dist-packages/nitime/data/fmri_timeseries.csv"
@@ -33,17 +33,6 @@ def ripser_bars(n, iu, ju, dim, tmp):
     out = subprocess.run(["ripser", "--format", "lower-distance", "--threshold", str(m), "--dim", str(dim), path],
                          capture_output=True, text=True, check=True).stdout
     return parse_intervals(out)
-
-
-def gudhi_tree(n, iu, ju, dim):
-    import gudhi
-    st = gudhi.SimplexTree()
-    for v in range(n):
-        st.insert([v], 0.0)
-    for r, (i, j) in enumerate(zip(iu, ju), start=1):
-        st.insert([int(i), int(j)], float(r))
-    st.expansion(dim + 1)
-    return st
 
 
 def gudhi_bars(n, iu, ju, dim):

@@ -1,6 +1,7 @@
 """Shared by the homology reference test and the homology benchmark: the filtration's
-edge order, the rank matrix given to the ripser command (Debian package ripser) and the
-parsing of its printed intervals, so both compare against the reference the same way."""
+edge order, the rank matrix given to the ripser command (Debian package ripser), the
+parsing of its printed intervals, and the same ranks as a gudhi SimplexTree (Debian
+python3-gudhi), so both compare against the references the same way."""
 import re
 
 import numpy as np
@@ -49,3 +50,15 @@ def parse_intervals(text):
             death = b.group(2).strip()
             bars.append((current, int(float(b.group(1))), None if death == "" else int(float(death))))
     return sorted(bars, key=repr)
+
+
+def gudhi_tree(n, iu, ju, dim):
+    """The flag filtration by edge rank as a gudhi SimplexTree, expanded to dimension dim + 1."""
+    import gudhi
+    st = gudhi.SimplexTree()
+    for v in range(n):
+        st.insert([v], 0.0)
+    for r, (i, j) in enumerate(zip(iu, ju), start=1):
+        st.insert([int(i), int(j)], float(r))
+    st.expansion(dim + 1)
+    return st
