@@ -35,17 +35,34 @@ class LinkEuler {
                   const std::function<bool()>& poll);
 
  private:
-  int128 walk(std::size_t depth);
+  // The candidate sets shrink as the walk goes down; once a set fits in half the words
+  // of its rows (or in one), its nodes are renumbered into rows of that width (a
+  // level), so the operations below touch only the words the set needs. Along one
+  // path the width only decreases, so one level per width is enough.
+  struct Level {
+    std::vector<std::uint64_t> rows;  // renumbered adjacency, `width` words per node
+    std::vector<std::uint64_t> sets;  // per depth below the level's start: the candidates
+    std::vector<std::uint64_t> rest;  // per depth: candidates not yet branched on
+  };
+  // f of one tree node: its candidates are sets[depth] of the level of that width.
+  // walk() counts the node (tick) and calls walk_body(), which does not, so a node
+  // that moves to a narrower level is counted once.
+  int128 walk(std::size_t width, std::size_t depth);
+  int128 walk_body(std::size_t width, std::size_t depth);
+  // The same for width 1, where a set is a single word and is passed by value.
+  int128 walk_word(std::uint64_t set);
+  int128 walk_word_body(std::uint64_t set);
+  // Renumbers the nodes of `set` (over `rows`, `width` words each) into level `to` and
+  // sets that level's root to all of them.
+  void enter_level(const std::uint64_t* rows, std::size_t width, const std::uint64_t* set, std::size_t size,
+                   std::size_t to);
   void tick();
-  const std::uint64_t* row(std::size_t x) const { return local_.data() + x * lw_; }
 
   std::size_t words_;                   // words of a global row
-  std::size_t lw_ = 0;                  // words of a local (renumbered link) row
-  std::vector<std::uint32_t> members_;  // local number -> global node
-  std::vector<std::uint64_t> common_, local_;
-  std::vector<std::uint64_t> sets_, rest_;        // per depth, lw_ words each
-  std::vector<std::uint32_t> degree_;             // per depth, one entry per link node
-  std::vector<std::uint64_t> order_;              // per depth: (degree << 32 | node) of the branch nodes
+  std::vector<std::uint64_t> common_;
+  std::vector<Level> levels_;           // [width]
+  std::vector<std::uint32_t> degree_;   // per node of the current level
+  std::vector<std::uint64_t> order_;    // per depth: (degree << 32 | node) of the branch nodes
   std::uint64_t* work_ = nullptr;
   const std::function<bool()>* poll_ = nullptr;
   std::uint64_t since_poll_ = 0;

@@ -37,48 +37,75 @@ __attribute__((target("bmi2"))) std::uint64_t extract_bmi2(std::uint64_t value, 
 }
 #endif
 
-using Extract = std::uint64_t (*)(std::uint64_t, std::uint64_t);
-Extract pick_extract() {
+// The walks renumber often (every time a candidate set fits in fewer words), so the
+// extraction must be inlined: the loop is compiled once per extractor.
+template <std::uint64_t (*extract)(std::uint64_t, std::uint64_t)>
+inline void compact_rows_with(const std::uint64_t* rows, std::size_t words, const std::uint64_t* set,
+                              std::uint64_t* out, std::size_t out_words) {
+  std::size_t lo = words, hi = 0;
+  for (std::size_t w = 0; w < words; ++w)
+    if (set[w]) {
+      lo = std::min(lo, w);
+      hi = w + 1;
+    }
+  std::uint64_t* row_out = out;
+  for (std::size_t w = lo; w < hi; ++w)
+    for (std::uint64_t bits = set[w]; bits; bits &= bits - 1, row_out += out_words) {
+      const std::uint64_t* in = rows + (w * 64 + static_cast<std::size_t>(std::countr_zero(bits))) * words;
+      std::fill(row_out, row_out + out_words, 0);
+      std::size_t at = 0;  // new number of the first member in word x
+      for (std::size_t x = lo; x < hi; ++x) {
+        if (!set[x]) continue;
+        const std::uint64_t packed = extract(in[x], set[x]);
+        const std::size_t length = static_cast<std::size_t>(std::popcount(set[x]));
+        const std::size_t shift = at % 64;
+        row_out[at / 64] |= packed << shift;
+        if (shift != 0 && shift + length > 64) row_out[at / 64 + 1] |= packed >> (64 - shift);
+        at += length;
+      }
+    }
+}
+
+void compact_rows_portable(const std::uint64_t* rows, std::size_t words, const std::uint64_t* set,
+                           std::uint64_t* out, std::size_t out_words) {
+  compact_rows_with<extract_portable>(rows, words, set, out, out_words);
+}
+
+#if defined(__x86_64__) && defined(__GNUC__)
+__attribute__((target("bmi2,popcnt"), flatten)) void compact_rows_bmi2(const std::uint64_t* rows, std::size_t words,
+                                                                       const std::uint64_t* set, std::uint64_t* out,
+                                                                       std::size_t out_words) {
+  compact_rows_with<extract_bmi2>(rows, words, set, out, out_words);
+}
+#endif
+
+using CompactRows = void (*)(const std::uint64_t*, std::size_t, const std::uint64_t*, std::uint64_t*, std::size_t);
+CompactRows pick_compact_rows() {
 #if defined(__x86_64__) && defined(__GNUC__)
   __builtin_cpu_init();
-  if (__builtin_cpu_supports("bmi2")) return extract_bmi2;
+  if (__builtin_cpu_supports("bmi2") && __builtin_cpu_supports("popcnt")) return compact_rows_bmi2;
 #endif
-  return extract_portable;
+  return compact_rows_portable;
 }
 
 }  // namespace
 
-CRITPLEX_POPCOUNT_CLONES
+void compact_rows(const std::uint64_t* rows, std::size_t words, const std::uint64_t* set, std::uint64_t* out,
+                  std::size_t out_words) {
+  static const CompactRows compact = pick_compact_rows();
+  compact(rows, words, set, out, out_words);
+}
+
 std::size_t renumber_link(const BitGraph& g, const std::uint64_t* common, std::vector<std::uint32_t>& members,
                           std::vector<std::uint64_t>& rows) {
-  static const Extract extract = pick_extract();
-  const std::size_t words = g.words();
-  std::size_t lo = words, hi = 0;
   members.clear();
-  for (std::size_t w = 0; w < words; ++w)
-    if (common[w]) {
-      lo = std::min(lo, w);
-      hi = w + 1;
-      for (std::uint64_t bits = common[w]; bits; bits &= bits - 1)
-        members.push_back(static_cast<std::uint32_t>(w * 64 + static_cast<std::size_t>(std::countr_zero(bits))));
-    }
+  for (std::size_t w = 0; w < g.words(); ++w)
+    for (std::uint64_t bits = common[w]; bits; bits &= bits - 1)
+      members.push_back(static_cast<std::uint32_t>(w * 64 + static_cast<std::size_t>(std::countr_zero(bits))));
   const std::size_t c = members.size();
   const std::size_t lw = (c + 63) / 64;
-  rows.assign(c * lw, 0);
-  for (std::size_t i = 0; i < c; ++i) {
-    const std::uint64_t* in = g.row(members[i]);
-    std::uint64_t* out = rows.data() + i * lw;
-    std::size_t at = 0;  // local number of the first member in word w
-    for (std::size_t w = lo; w < hi; ++w) {
-      if (!common[w]) continue;
-      const std::uint64_t bits = extract(in[w], common[w]);
-      const std::size_t length = static_cast<std::size_t>(std::popcount(common[w]));
-      const std::size_t shift = at % 64;
-      out[at / 64] |= bits << shift;
-      if (shift != 0 && shift + length > 64) out[at / 64 + 1] |= bits >> (64 - shift);
-      at += length;
-    }
-  }
+  rows.resize(c * lw);
+  compact_rows(g.row(0), g.words(), common, rows.data(), lw);
   return c;
 }
 

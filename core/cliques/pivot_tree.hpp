@@ -67,6 +67,13 @@ CurvatureShares curvature_shares(std::size_t max_clique, bool force_fixed_point)
 std::size_t renumber_link(const BitGraph& g, const std::uint64_t* common, std::vector<std::uint32_t>& members,
                           std::vector<std::uint64_t>& rows);
 
+// The same for any bitset rows: for each node of `set` (rows of `words` words, node x's
+// row at rows + x * words), in increasing order, writes its adjacency to the other
+// nodes of `set`, renumbered 0..|set|-1, as one row of `out_words` words into `out`.
+// One PEXT per word on x86-64 with BMI2, a portable loop elsewhere.
+void compact_rows(const std::uint64_t* rows, std::size_t words, const std::uint64_t* set, std::uint64_t* out,
+                  std::size_t out_words);
+
 // What the leaves of the trees of one grid interval add up to. Leaves are tallied by
 // (holds h, pivots p) and turned into clique counts later (C(p, j) cliques of h + j
 // link nodes each), so the hot loop only increments one counter.
