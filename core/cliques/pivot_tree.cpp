@@ -37,8 +37,8 @@ __attribute__((target("bmi2"))) std::uint64_t extract_bmi2(std::uint64_t value, 
 }
 #endif
 
-// The walks renumber often (every time a candidate set fits in fewer words), so the
-// extraction must be inlined: the loop is compiled once per extractor.
+// The chi-only walk renumbers often (whenever a candidate set fits in half its words),
+// so the extraction must be inlined: the loop is compiled once per extractor.
 template <std::uint64_t (*extract)(std::uint64_t, std::uint64_t)>
 inline void compact_rows_with(const std::uint64_t* rows, std::size_t words, const std::uint64_t* set,
                               std::uint64_t* out, std::size_t out_words) {

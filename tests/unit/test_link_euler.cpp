@@ -12,7 +12,6 @@
 
 using namespace critplex;
 using namespace critplex::cliques;
-using filtration::Edge;
 using filtration::Filtration;
 
 namespace {
