@@ -40,6 +40,8 @@ const char* cpx_status_name(cpx_status status) {
     case CPX_ERR_OVERFLOW: return "CPX_ERR_OVERFLOW";
     case CPX_ERR_MEMORY: return "CPX_ERR_MEMORY";
     case CPX_ERR_INTERNAL: return "CPX_ERR_INTERNAL";
+    case CPX_ERR_BUFFER: return "CPX_ERR_BUFFER";
+    case CPX_ERR_MISUSE: return "CPX_ERR_MISUSE";
   }
   return "CPX_ERR_UNKNOWN";
 }

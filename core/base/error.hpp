@@ -18,6 +18,8 @@ enum class ErrorKind : int {
   overflow = 7,   // an exact value does not fit the requested output type
   memory = 8,     // out of memory
   internal = 9,   // a bug: an invariant did not hold
+  buffer = 10,    // a caller's buffer is too small (nothing was written)
+  misuse = 11,    // a NULL handle, or a call out of order
 };
 
 class Error : public std::runtime_error {

@@ -58,7 +58,9 @@ typedef enum cpx_status {
   CPX_ERR_CANCELLED = 6, /* the progress callback asked to stop */
   CPX_ERR_OVERFLOW = 7,  /* an exact value does not fit the requested output type */
   CPX_ERR_MEMORY = 8,    /* out of memory */
-  CPX_ERR_INTERNAL = 9   /* a bug in critplex: please report it with the message */
+  CPX_ERR_INTERNAL = 9,  /* a bug in critplex: please report it with the message */
+  CPX_ERR_BUFFER = 10,   /* a caller's buffer is too small; nothing was written (since 0.2) */
+  CPX_ERR_MISUSE = 11    /* a NULL handle, or a call out of order (since 0.2) */
 } cpx_status;
 
 typedef enum cpx_layout {
