@@ -9,7 +9,8 @@
 
 #include "base/error.hpp"
 #include "base/exact.hpp"
-#include "cohort/random.hpp"
+#include "base/numeric.hpp"
+#include "base/random.hpp"
 
 namespace critplex::cohort {
 
@@ -150,15 +151,9 @@ double student_t_quantile(double probability, double df) {
   return 0.5 * (lo + hi);
 }
 
-// numpy's linear percentile of values already in increasing order.
+// numpy's linear percentile of values already in increasing order, q in [0, 100].
 static double percentile_of_sorted(const std::vector<double>& values, double q) {
-  const double h = static_cast<double>(values.size() - 1) * q / 100.0;
-  const auto lo = static_cast<std::size_t>(std::floor(h));
-  const std::size_t hi = std::min(lo + 1, values.size() - 1);
-  const double w = h - static_cast<double>(lo);
-  // numpy's lerp: the form used depends on the side of 0.5, for symmetry.
-  const double a = values[lo], b = values[hi];
-  return w >= 0.5 ? b - (b - a) * (1.0 - w) : a + (b - a) * w;
+  return quantile_sorted(values, q / 100.0);
 }
 
 double percentile(std::vector<double> values, double q) {

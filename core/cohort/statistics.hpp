@@ -14,7 +14,7 @@
 //    exact enumeration when C(n_a + n_b, n_a) <= exact_limit, else Monte Carlo.
 //  - Percentile bootstrap intervals take numpy's default ("linear") percentile of the
 //    resampled statistics at (1 - c)/2 and (1 + c)/2, as scipy.stats.bootstrap does.
-//  - Randomness only from the seed in the options (cohort/random.hpp), so a result is
+//  - Randomness only from the seed in the options (base/random.hpp), so a result is
 //    the same for a given seed on every platform.
 #pragma once
 

@@ -7,6 +7,7 @@
 #include <numeric>
 
 #include "base/error.hpp"
+#include "base/numeric.hpp"
 
 namespace critplex::curvature {
 
@@ -14,28 +15,6 @@ namespace {
 
 constexpr double not_a_number = std::numeric_limits<double>::quiet_NaN();
 
-int128 gcd128(int128 a, int128 b) {
-  while (b != 0) {
-    int128 t = a % b;
-    a = b;
-    b = t;
-  }
-  return a;
-}
-
-// lcm(1..n), or 0 when it does not fit in 128 bits.
-int128 lcm_up_to(std::size_t n) {
-  int128 l = 1;
-  for (std::size_t d = 2; d <= n; ++d) {
-    const int128 g = gcd128(l, static_cast<int128>(d));
-    int128 next;
-    if (__builtin_mul_overflow(l / g, static_cast<int128>(d), &next)) return 0;
-    l = next;
-  }
-  return l;
-}
-
-__extension__ typedef __float128 quad;
 
 // Neumaier's compensated sum: the result carries the rounding of only the last step.
 double compensated_sum(const std::vector<double>& values) {
@@ -84,7 +63,7 @@ NodeCurvature node_curvature(const std::vector<std::vector<int128>>& counts) {
     dims = std::max(dims, counts[i].size());
   }
   // Exact route: kappa_i = numerator_i / lcm(1..K+1), all in 128-bit integers.
-  const int128 denominator = lcm_up_to(dims);
+  const int128 denominator = lcm_up_to(dims).value_or(0);
   bool exact = denominator != 0;
   std::vector<int128> numerators(n, 0);
   for (std::size_t i = 0; exact && i < n; ++i) {
@@ -279,14 +258,6 @@ std::vector<double> FormanSweep::node_mean() const {
   return mean;
 }
 
-double quantile_sorted(const std::vector<double>& sorted, double q) {
-  if (sorted.empty()) return not_a_number;
-  const double h = q * static_cast<double>(sorted.size() - 1);
-  const std::size_t lo = static_cast<std::size_t>(std::floor(h));
-  const std::size_t hi = std::min(lo + 1, sorted.size() - 1);
-  return sorted[lo] + (h - static_cast<double>(lo)) * (sorted[hi] - sorted[lo]);
-}
-
 // Standard deviation, skewness g1 and excess kurtosis g2 from the central moments
 // m2, m3, m4 (divided by n). A constant sample has no spread and no shape (scipy gives
 // NaN too); its mean is set to the value itself, free of rounding.
@@ -343,17 +314,6 @@ Distribution describe(const std::vector<double>& values, const std::vector<doubl
 }
 
 namespace {
-// Type 7 quantile of n sorted values, the k-th read by at(k).
-template <class At>
-double quantile_at(std::size_t n, double q, const At& at) {
-  if (n == 0) return not_a_number;
-  const double h = q * static_cast<double>(n - 1);
-  const std::size_t lo = static_cast<std::size_t>(std::floor(h));
-  const std::size_t hi = std::min(lo + 1, n - 1);
-  const double a = at(lo), b = hi == lo ? a : at(hi);
-  return a + (h - static_cast<double>(lo)) * (b - a);
-}
-
 // The histogram bin of v (every bin [a, b) except the last, [a, b]), or counts it outside.
 void bin_value(double v, std::size_t times, const std::vector<double>& bin_edges, Distribution& d) {
   const std::size_t bins = d.histogram.size();
@@ -398,7 +358,7 @@ Distribution describe_tally(const IntegerTally& values, const std::vector<double
     bin_value(value_of(k), values.counts[k], bin_edges, d);
   }
   set_shape(d, m2 / n, m3 / n, m4 / n);
-  for (double q : levels) d.quantiles.push_back(quantile_at(d.count, q, [&](std::size_t r) { return values.at(r); }));
+  for (double q : levels) d.quantiles.push_back(quantile_type7(d.count, q, [&](std::size_t r) { return values.at(r); }));
   return d;
 }
 
@@ -408,7 +368,7 @@ std::vector<double> freedman_diaconis_bins_tally(const IntegerTally& pooled, std
   const double lo = pooled.at(0), hi = pooled.at(n - 1);
   if (lo == hi) return fixed_bins(lo - 0.5, hi + 0.5, 1);
   auto at = [&](std::size_t r) { return pooled.at(r); };
-  const double iqr = quantile_at(n, 0.75, at) - quantile_at(n, 0.25, at);
+  const double iqr = quantile_type7(n, 0.75, at) - quantile_type7(n, 0.25, at);
   std::size_t bins = 1;
   if (iqr > 0.0) {
     const double width = 2.0 * iqr / std::cbrt(static_cast<double>(n));
@@ -440,7 +400,7 @@ std::vector<double> freedman_diaconis_bins(std::vector<double> pooled, std::size
     std::nth_element(pooled.begin(), pooled.begin() + static_cast<std::ptrdiff_t>(k), pooled.end());
     return pooled[k];
   };
-  const double iqr = quantile_at(pooled.size(), 0.75, at) - quantile_at(pooled.size(), 0.25, at);
+  const double iqr = quantile_type7(pooled.size(), 0.75, at) - quantile_type7(pooled.size(), 0.25, at);
   std::size_t bins = 1;
   if (iqr > 0.0) {
     const double width = 2.0 * iqr / std::cbrt(static_cast<double>(pooled.size()));

@@ -114,8 +114,6 @@ Distribution describe(const std::vector<double>& values, const std::vector<doubl
 Distribution describe_tally(const IntegerTally& values, const std::vector<double>& levels,
                       const std::vector<double>& bin_edges);
 
-// Quantile at level q in [0, 1] of sorted values (type 7).
-double quantile_sorted(const std::vector<double>& sorted, double q);
 // `bins` equal bins over [lo, hi].
 std::vector<double> fixed_bins(double lo, double hi, std::size_t bins);
 // Data-driven bin grid over the pooled values: the Freedman-Diaconis width

@@ -10,6 +10,7 @@
 
 #include "base/error.hpp"
 #include "base/exact.hpp"
+#include "base/numeric.hpp"
 
 namespace critplex::homology {
 
@@ -48,7 +49,8 @@ constexpr std::size_t kDenseBytes = std::size_t{4} << 20;
 // decreasing vertex order, and the binomial table of the combinatorial number system.
 class Graph {
  public:
-  Graph(const filtration::Filtration& f, int max_vertices) : n_(static_cast<u32>(f.nodes)), k_(max_vertices) {
+  Graph(const filtration::Filtration& f, int max_vertices)
+      : n_(static_cast<u32>(f.nodes)), k_(max_vertices), binomial_(f.nodes, static_cast<std::size_t>(max_vertices)) {
     if (f.edges.size() >= std::numeric_limits<u32>::max() - 2)
       fail(ErrorKind::overflow, "homology: more than 2^32 - 3 edges in the filtration");
     std::vector<u32> degree(n_ + 1, 0);
@@ -88,25 +90,18 @@ class Graph {
             static_cast<u32>(m + 1);
       }
     }
-    // C(n, k) for n <= N, k <= max_vertices; every simplex index is below C(N, k), so
-    // one check here makes all later index arithmetic safe in 64 bits.
-    binomial_.assign(static_cast<std::size_t>(k_ + 1) * (n_ + 1), 0);
+    // C(n, k) for n <= N, k <= max_vertices; every simplex index is below C(N, k) and
+    // C(n, k) <= C(N, k) for n <= N, so one check here makes all later index arithmetic
+    // safe in 64 bits.
     const u64 limit = u64{1} << 62;
-    for (u32 n = 0; n <= n_; ++n) {
-      binomial_[n] = 1;
-      for (int k = 1; k <= k_; ++k) {
-        if (n == 0) continue;
-        const u64 sum = binomial(n - 1, k - 1) + binomial(n - 1, k);
-        if (sum > limit)
-          fail(ErrorKind::overflow, "homology: simplex indices for " + std::to_string(n_) + " nodes and " +
-                                        std::to_string(k_) + " vertices per simplex exceed 62 bits; lower max_dimension");
-        binomial_[static_cast<std::size_t>(k) * (n_ + 1) + n] = sum;
-      }
-    }
+    for (int k = 1; k <= k_; ++k)
+      if (binomial_(n_, static_cast<std::size_t>(k)) > limit)
+        fail(ErrorKind::overflow, "homology: simplex indices for " + std::to_string(n_) + " nodes and " +
+                                      std::to_string(k_) + " vertices per simplex exceed 62 bits; lower max_dimension");
   }
 
   u32 nodes() const { return n_; }
-  u64 binomial(u32 n, int k) const { return binomial_[static_cast<std::size_t>(k) * (n_ + 1) + n]; }
+  u64 binomial(u32 n, int k) const { return binomial_(n, static_cast<std::size_t>(k)); }
   std::size_t degree(u32 v) const { return offset_[v + 1] - offset_[v]; }
   const u32* neighbours(u32 v) const { return neighbour_.data() + offset_[v]; }
   const u32* neighbour_ranks(u32 v) const { return neighbour_rank_.data() + offset_[v]; }
@@ -128,7 +123,7 @@ class Graph {
   std::vector<u32> neighbour_;
   std::vector<u32> neighbour_rank_;
   std::vector<u32> dense_;
-  std::vector<u64> binomial_;
+  BinomialTable<u64> binomial_;
 };
 
 // A simplex spelled out: vertices in decreasing order, its value (rank of its last

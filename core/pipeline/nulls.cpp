@@ -4,6 +4,7 @@
 #include <limits>
 
 #include "base/error.hpp"
+#include "base/random.hpp"
 #include "cliques/counts.hpp"
 #include "cohort/statistics.hpp"
 #include "simulate/rewire.hpp"
@@ -14,13 +15,8 @@ namespace critplex::pipeline {
 
 namespace {
 
-// Independent, reproducible seeds for the j-th null draw (splitmix64 step).
-std::uint64_t draw_seed(std::uint64_t seed, std::uint64_t j) {
-  std::uint64_t z = seed + 0x9e3779b97f4a7c15ULL * (j + 1);
-  z = (z ^ (z >> 30)) * 0xbf58476d1ce4e5b9ULL;
-  z = (z ^ (z >> 27)) * 0x94d049bb133111ebULL;
-  return z ^ (z >> 31);
-}
+// Independent, reproducible seeds for the j-th null draw.
+std::uint64_t draw_seed(std::uint64_t seed, std::uint64_t j) { return derived_seed(seed, j + 1); }
 
 std::vector<double> column(const SweepResult& s, const std::string& name) {
   for (std::size_t c = 0; c < s.columns.size(); ++c)

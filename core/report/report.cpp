@@ -7,6 +7,7 @@
 #include <sstream>
 
 #include "base/error.hpp"
+#include "base/numeric.hpp"
 
 namespace critplex::report {
 
@@ -293,12 +294,7 @@ std::string svg_strip_plot(const StripPlot& plot) {
     for (double v : g.values)
       if (std::isfinite(v)) finite.push_back(v);
     std::sort(finite.begin(), finite.end());
-    auto quantile = [&](double q) {
-      const double h = (static_cast<double>(finite.size()) - 1.0) * q;
-      const auto i = static_cast<std::size_t>(std::floor(h));
-      const std::size_t j = std::min(i + 1, finite.size() - 1);
-      return finite[i] + (h - static_cast<double>(i)) * (finite[j] - finite[i]);
-    };
+    auto quantile = [&](double q) { return quantile_sorted(finite, q); };
     if (!finite.empty()) {
       const double q1 = f.py(quantile(0.25)), q2 = f.py(quantile(0.5)), q3 = f.py(quantile(0.75));
       s << "<rect x=\"" << coord(centre - 30) << "\" y=\"" << coord(q3) << "\" width=\"60\" height=\"" << coord(q1 - q3)

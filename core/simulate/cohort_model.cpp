@@ -5,21 +5,16 @@
 #include <cstdio>
 
 #include "base/error.hpp"
-#include "cohort/random.hpp"
+#include "base/random.hpp"
 
 namespace critplex::simulate {
 
 namespace {
 
-// SplitMix64 (Steele, Lea & Flood 2014): decorrelates seeds that differ by one.
-std::uint64_t mix(std::uint64_t x) {
-  x += 0x9e3779b97f4a7c15ULL;
-  x = (x ^ (x >> 30)) * 0xbf58476d1ce4e5b9ULL;
-  x = (x ^ (x >> 27)) * 0x94d049bb133111ebULL;
-  return x ^ (x >> 31);
-}
+// Decorrelates seeds that differ by one.
+constexpr std::uint64_t mix(std::uint64_t x) { return splitmix64(x); }
 
-std::vector<double> ar1(cohort::Random& random, std::size_t length, double phi) {
+std::vector<double> ar1(Random& random, std::size_t length, double phi) {
   std::vector<double> x(length);
   const double innovation = std::sqrt(1.0 - phi * phi);
   double value = random.normal();  // stationary start
@@ -114,7 +109,7 @@ Json to_json(const CohortModel& m) {
 CohortPlan plan_cohort(const CohortModel& m) {
   check(m);
   CohortPlan plan;
-  cohort::Random atlas(mix(m.seed));
+  Random atlas(mix(m.seed));
   for (std::size_t i = 0; i < m.regions; ++i) {
     const std::size_t module = i * m.modules / m.regions;
     plan.module.push_back(module);
@@ -128,7 +123,7 @@ CohortPlan plan_cohort(const CohortModel& m) {
       s.id = g.name + two_digits(k + 1);
       s.group = g.name;
       s.seed = mix(m.seed ^ mix(position + 1));
-      cohort::Random random(s.seed);
+      Random random(s.seed);
       s.global_strength = std::max(0.0, g.global_mean + g.global_sd * random.normal());
       s.age = std::round((m.age_min + (m.age_max - m.age_min) * random.uniform()) * 10.0) / 10.0;
       plan.subjects.push_back(s);
@@ -141,7 +136,7 @@ series::Series simulate_subject(const CohortModel& m, const CohortPlan& plan, st
     fail(ErrorKind::argument, "subject index " + std::to_string(index) + " is outside the cohort of " +
                                   std::to_string(plan.subjects.size()));
   const SimulatedSubject& s = plan.subjects[index];
-  cohort::Random random(mix(s.seed));  // a stream apart from the one that drew b_s and age
+  Random random(mix(s.seed));  // a stream apart from the one that drew b_s and age
   std::vector<std::vector<double>> factors;
   for (std::size_t k = 0; k < m.modules; ++k) factors.push_back(ar1(random, m.frames, m.factor_ar));
   const std::vector<double> global = ar1(random, m.frames, m.factor_ar);

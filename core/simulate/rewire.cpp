@@ -6,7 +6,7 @@
 #include <unordered_set>
 
 #include "base/error.hpp"
-#include "cohort/random.hpp"
+#include "base/random.hpp"
 
 namespace critplex::simulate {
 
@@ -55,7 +55,7 @@ RewireResult rewire(std::size_t nodes, const EdgeList& edges, const RewireOption
     return result;
   }
   const std::uint64_t budget = wanted * 100;
-  cohort::Random random(options.seed);
+  Random random(options.seed);
   while (result.swaps < wanted && result.attempts < budget) {
     ++result.attempts;
     const auto i = static_cast<std::size_t>(random.below(m));

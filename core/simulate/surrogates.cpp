@@ -8,7 +8,7 @@
 #include <vector>
 
 #include "base/error.hpp"
-#include "cohort/random.hpp"
+#include "base/random.hpp"
 #include "series/fft.hpp"
 
 namespace critplex::simulate {
@@ -36,7 +36,7 @@ using Spectrum = std::vector<std::complex<double>>;
 // Bins whose phase may turn: 1 .. ceil(T/2) - 1 (DC and an even T's Nyquist bin stay real).
 std::size_t last_free_bin(std::size_t frames) { return (frames - 1) / 2; }
 
-void random_phases(cohort::Random& random, std::vector<std::complex<double>>& rotation) {
+void random_phases(Random& random, std::vector<std::complex<double>>& rotation) {
   for (std::size_t k = 1; k < rotation.size(); ++k) rotation[k] = std::polar(1.0, 2.0 * std::numbers::pi * random.uniform());
 }
 
@@ -61,7 +61,7 @@ SurrogateResult make_surrogate(const Eigen::MatrixXd& values, const SurrogateOpt
                                   std::to_string(t + 1));
   if (options.iaaft_iterations < 1) fail(ErrorKind::argument, "iaaft_iterations must be at least 1");
 
-  cohort::Random random(options.seed);
+  Random random(options.seed);
   series::FftPlans plans(static_cast<Eigen::Index>(frames));
   const std::size_t bins = frames / 2 + 1, free_end = last_free_bin(frames) + 1;
   SurrogateResult result;

@@ -6,12 +6,12 @@
 #include <cmath>
 
 #include "base/error.hpp"
+#include "base/numeric.hpp"
 
 namespace critplex::transitions {
 
 namespace {
 
-__extension__ typedef __float128 quad;
 const quad one = 1;
 const quad half = static_cast<quad>(0.5);
 

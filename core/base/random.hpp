@@ -9,7 +9,22 @@
 #include <random>
 #include <vector>
 
-namespace critplex::cohort {
+namespace critplex {
+
+// One step of splitmix64 (Steele, Lea & Flood 2014): a well-mixed 64-bit value from x.
+constexpr std::uint64_t splitmix64(std::uint64_t x) {
+  x += 0x9e3779b97f4a7c15ULL;
+  x = (x ^ (x >> 30)) * 0xbf58476d1ce4e5b9ULL;
+  x = (x ^ (x >> 27)) * 0x94d049bb133111ebULL;
+  return x ^ (x >> 31);
+}
+
+// Independent, reproducible seed of stream `stream` derived from `seed` (e.g. the j-th
+// null draw): streams of one seed, and equal streams of different seeds, do not collide
+// in practice.
+constexpr std::uint64_t derived_seed(std::uint64_t seed, std::uint64_t stream) {
+  return splitmix64(seed + 0x9e3779b97f4a7c15ULL * stream);
+}
 
 class Random {
  public:
@@ -57,4 +72,4 @@ class Random {
   bool has_spare_ = false;
 };
 
-}  // namespace critplex::cohort
+}  // namespace critplex
