@@ -93,6 +93,9 @@ cpx_status cpx_stats_compare_summaries(const char* input_json, const char* optio
     const std::string input_where = "input of cpx_stats_compare_summaries";
     const Json input = parse_options(input_json, input_where);
     const auto rows = cohort::compare_summaries(cohort::summaries_from_json(input, input_where), options);
+    // A summary that cannot be tested is an error here: the caller gave the values.
+    for (const auto& row : rows)
+      if (!row.tested) fail(ErrorKind::data, "summary '" + row.summary + "': " + row.note);
     put_json(Json{{"tests", cohort::to_json(rows, options)}}, result_json);
   });
 }

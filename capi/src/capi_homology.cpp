@@ -2,24 +2,12 @@
 // numeric table (the same bars are in cpx_sweep_json, section "homology").
 #include <cmath>
 #include <limits>
-#include <memory>
 
 #include "guard.hpp"
-#include "base/options.hpp"
 #include "handles.hpp"
 
 using namespace critplex;
 using namespace critplex::capi;
-
-namespace {
-
-Json homology_section(const cpx_sweep* sweep) {
-  return sweep_section(sweep, "homology", "a \"homology\" section");
-}
-
-double number_or(const Json& v, double missing) { return v.is_number() ? v.get<double>() : missing; }
-
-}  // namespace
 
 extern "C" {
 
@@ -30,10 +18,12 @@ cpx_status cpx_sweep_bars(const cpx_sweep* sweep, int dimension, cpx_layout layo
     require_pointer(bars, "bars");
     check_layout(layout);
     if (dimension < -1) fail(ErrorKind::argument, "argument 'dimension' must be -1 (all) or >= 0, got " + std::to_string(dimension));
-    const Json section = homology_section(sweep);
-    std::vector<const Json*> chosen;
-    for (const auto& b : section["bars"])
-      if (dimension < 0 || b["dimension"].get<int>() == dimension) chosen.push_back(&b);
+    if (!sweep->value.homology) engine_missing("a \"homology\" section");
+    const homology::Result& h = *sweep->value.homology;
+    const filtration::Filtration& f = sweep->value.filtration;
+    std::vector<const homology::Bar*> chosen;
+    for (const auto& b : h.bars)
+      if (dimension < 0 || b.dimension == dimension) chosen.push_back(&b);
     *bars = chosen.size();
     if (buffer == nullptr) return;
     constexpr std::size_t columns = CPX_BAR_COLUMNS;
@@ -42,12 +32,16 @@ cpx_status cpx_sweep_bars(const cpx_sweep* sweep, int dimension, cpx_layout layo
                                     std::to_string(chosen.size()) + " bars need " +
                                     std::to_string(chosen.size() * columns) + " doubles");
     const double inf = std::numeric_limits<double>::infinity(), nan = std::nan("");
+    auto threshold = [&](std::size_t rank) { return rank == 0 ? nan : f.edges[rank - 1].value; };
     for (std::size_t i = 0; i < chosen.size(); ++i) {
-      const Json& b = *chosen[i];
-      const double row[columns] = {b["dimension"].get<double>(),        b["birth_rank"].get<double>(),
-                                   number_or(b["death_rank"], inf),     b["birth_density"].get<double>(),
-                                   number_or(b["death_density"], inf),  number_or(b["birth_threshold"], nan),
-                                   number_or(b["death_threshold"], nan)};
+      const homology::Bar& b = *chosen[i];
+      const double row[columns] = {static_cast<double>(b.dimension),
+                                   static_cast<double>(b.birth_rank),
+                                   b.essential ? inf : static_cast<double>(b.death_rank),
+                                   homology::rank_density(f, b.birth_rank),
+                                   b.essential ? inf : homology::rank_density(f, b.death_rank),
+                                   threshold(b.birth_rank),
+                                   b.essential ? nan : threshold(b.death_rank)};
       for (std::size_t c = 0; c < columns; ++c)
         buffer[layout == CPX_ROW_MAJOR ? i * columns + c : c * chosen.size() + i] = row[c];
     }

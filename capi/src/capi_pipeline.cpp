@@ -1,5 +1,6 @@
 // Whole subjects and cohorts.
 #include "guard.hpp"
+#include "output/subject.hpp"
 #include "pipeline/cohort.hpp"
 #include "pipeline/subject.hpp"
 
@@ -18,7 +19,7 @@ cpx_status cpx_subject_run(const char* config_json, const char* out_dir, cpx_pro
     Progress p{progress, user};
     const auto result = pipeline::run_subject(parsed, [p](double f) { return p(f); });
     if (out_dir != nullptr) pipeline::write_subject_outputs(result, out_dir);
-    *document_json = copy_string(pipeline::subject_document(result).dump());
+    *document_json = copy_string(output::subject_document(result).dump());
   });
 }
 
@@ -39,6 +40,7 @@ cpx_status cpx_cohort_run(const char* manifest_path, const char* config_json, co
 }  // extern "C"
 
 #include "io/files.hpp"
+#include "output/comparison.hpp"
 #include "pipeline/compare.hpp"
 #include "pipeline/study.hpp"
 
@@ -49,7 +51,7 @@ cpx_status cpx_cohort_compare(const char* dir, const char* options_json, char** 
     require_pointer(dir, "dir");
     require_pointer(comparison_json, "comparison_json");
     const auto options = pipeline::parse_compare_options(parse_options(options_json, "options of cpx_cohort_compare"));
-    *comparison_json = copy_string(pipeline::compare_and_write(dir, options).dump());
+    *comparison_json = copy_string(output::comparison_json(pipeline::compare_and_write(dir, options)).dump());
   });
 }
 
@@ -69,7 +71,7 @@ cpx_status cpx_cohort_report(const char* dir, const char* options_json, char** r
     } catch (const Json::parse_error& e) {
       fail(ErrorKind::parse, "'" + source + "': not valid JSON (" + e.what() + ")");
     }
-    io::write_file_atomically(out, pipeline::report_html(comparison, created));
+    io::write_file_atomically(out, pipeline::report_html(output::read_comparison(comparison, source), created));
     *report_path = copy_string(out);
   });
 }

@@ -4,6 +4,7 @@
 
 #include "guard.hpp"
 #include "handles.hpp"
+#include "output/sweep.hpp"
 #include "pipeline/sweep.hpp"
 
 using namespace critplex;
@@ -11,27 +12,18 @@ using namespace critplex::capi;
 
 namespace critplex::capi {
 
-Json sweep_document(const cpx_sweep* sweep) {
-  require_pointer(sweep, "sweep");
-  return pipeline::sweep_to_json(sweep->value);
-}
-
-const Json& sweep_section(const cpx_sweep* sweep, const std::string& engine, const std::string& needed_option) {
-  require_pointer(sweep, "sweep");
-  const auto& sections = sweep->value.sections;
-  if (!sections.contains(engine))
-    fail(ErrorKind::argument, "argument 'sweep' was run without " + needed_option + " in its options");
-  return sections.at(engine);
+void engine_missing(const std::string& needed_option) {
+  fail(ErrorKind::argument, "argument 'sweep' was run without " + needed_option + " in its options");
 }
 
 }  // namespace critplex::capi
 
 namespace {
-std::size_t column_index(const pipeline::SweepResult& r, const std::string& name) {
-  for (std::size_t i = 0; i < r.columns.size(); ++i)
-    if (r.columns[i] == name) return i;
+const output::CurveColumn& column_named(const cpx_sweep* sweep, const std::string& name) {
+  for (const auto& c : sweep->columns)
+    if (c.name == name) return c;
   std::string list;
-  for (const auto& c : r.columns) list += (list.empty() ? "" : ", ") + c;
+  for (const auto& c : sweep->columns) list += (list.empty() ? "" : ", ") + c.name;
   fail(ErrorKind::argument, "argument 'column': no curve named \"" + name + "\" (available: " + list + ")");
 }
 }  // namespace
@@ -47,6 +39,7 @@ cpx_status cpx_sweep_run(const cpx_matrix* matrix, const char* options_json, cpx
     Progress p{progress, user};
     auto h = std::make_unique<cpx_sweep>();
     h->value = pipeline::run_sweep(matrix->value, options, [p](double f) { return p(f); });
+    h->columns = output::curve_columns(h->value);
     *out = h.release();
   });
 }
@@ -57,7 +50,7 @@ cpx_status cpx_sweep_json(const cpx_sweep* sweep, char** json) {
   return guard("cpx_sweep_json", [&] {
     require_pointer(sweep, "sweep");
     require_pointer(json, "json");
-    *json = copy_string(pipeline::sweep_to_json(sweep->value).dump());
+    *json = copy_string(output::sweep_json(sweep->value).dump());
   });
 }
 
@@ -65,15 +58,15 @@ cpx_status cpx_sweep_curves_tsv(const cpx_sweep* sweep, char** tsv) {
   return guard("cpx_sweep_curves_tsv", [&] {
     require_pointer(sweep, "sweep");
     require_pointer(tsv, "tsv");
-    *tsv = copy_string(pipeline::sweep_curves_tsv(sweep->value));
+    *tsv = copy_string(output::curves_tsv(sweep->columns));
   });
 }
 
 cpx_status cpx_sweep_shape(const cpx_sweep* sweep, size_t* points, size_t* columns) {
   return guard("cpx_sweep_shape", [&] {
     require_pointer(sweep, "sweep");
-    if (points) *points = sweep->value.rows.size();
-    if (columns) *columns = sweep->value.columns.size();
+    if (points) *points = sweep->value.grid.size();
+    if (columns) *columns = sweep->columns.size();
   });
 }
 
@@ -81,10 +74,10 @@ cpx_status cpx_sweep_column_name(const cpx_sweep* sweep, size_t index, char** na
   return guard("cpx_sweep_column_name", [&] {
     require_pointer(sweep, "sweep");
     require_pointer(name, "name");
-    if (index >= sweep->value.columns.size())
+    if (index >= sweep->columns.size())
       fail(ErrorKind::argument, "argument 'index' is " + std::to_string(index) + " but there are " +
-                                    std::to_string(sweep->value.columns.size()) + " columns");
-    *name = copy_string(sweep->value.columns[index]);
+                                    std::to_string(sweep->columns.size()) + " columns");
+    *name = copy_string(sweep->columns[index].name);
   });
 }
 
@@ -93,14 +86,11 @@ cpx_status cpx_sweep_curve(const cpx_sweep* sweep, const char* column, double* b
     require_pointer(sweep, "sweep");
     require_pointer(column, "column");
     require_pointer(buffer, "buffer");
-    const auto& r = sweep->value;
-    const std::size_t c = column_index(r, column);
-    if (buffer_length < r.rows.size())
+    const output::CurveColumn& c = column_named(sweep, column);
+    if (buffer_length < c.values.size())
       fail(ErrorKind::argument, "argument 'buffer_length' is " + std::to_string(buffer_length) + " but the grid has " +
-                                    std::to_string(r.rows.size()) + " points");
-    for (std::size_t i = 0; i < r.rows.size(); ++i) {
-      buffer[i] = pipeline::curve_cell_value(r.rows[i][c]);
-    }
+                                    std::to_string(c.values.size()) + " points");
+    std::copy(c.values.begin(), c.values.end(), buffer);
   });
 }
 

@@ -5,18 +5,12 @@
 
 #include "guard.hpp"
 #include "handles.hpp"
+#include "output/sweep.hpp"
+#include "transitions/analysis.hpp"
 #include "transitions/random_graph.hpp"
-#include "transitions/report.hpp"
 
 using namespace critplex;
 using namespace critplex::capi;
-
-namespace {
-
-
-double value_or_nan(const Json& v) { return v.is_number() ? v.get<double>() : std::nan(""); }
-
-}  // namespace
 
 extern "C" {
 
@@ -25,24 +19,25 @@ cpx_status cpx_sweep_node_curvature(const cpx_sweep* sweep, cpx_layout layout, d
   return guard("cpx_sweep_node_curvature", [&] {
     require_pointer(sweep, "sweep");
     check_layout(layout);
-    // Only the curvature section is read: building the whole sweep document would copy
-    // every curve of the sweep to read one table.
-    const Json& section = sweep_section(sweep, "curvature", "a \"curvature\" section");
-    if (!section.contains("node_kappa"))
+    if (!sweep->value.curvature) engine_missing("a \"curvature\" section");
+    const curvature::OnGrid& c = *sweep->value.curvature;
+    if (!c.options.node_curves)
       fail(ErrorKind::argument, "argument 'sweep' has no node curvature (run it with a \"curvature\" section and "
                                 "\"node_curves\": true)");
-    const Json& values = section["node_kappa"]["values"];  // [node][point]
-    const std::size_t n = values.size();
-    const std::size_t g = n == 0 ? 0 : values[0].size();
+    const std::size_t n = sweep->value.nodes;
+    const std::size_t g = c.points.size();
     if (points) *points = g;
     if (nodes) *nodes = n;
     if (buffer == nullptr) return;
     if (buffer_length < g * n)
       fail(ErrorKind::argument, "argument 'buffer_length' is " + std::to_string(buffer_length) + " but " +
                                     std::to_string(g) + " points x " + std::to_string(n) + " nodes are needed");
-    for (std::size_t i = 0; i < n; ++i)
-      for (std::size_t p = 0; p < g; ++p)
-        buffer[layout == CPX_ROW_MAJOR ? p * n + i : i * g + p] = value_or_nan(values[i][p]);
+    for (std::size_t p = 0; p < g; ++p) {
+      const curvature::PointCurvature& point = c.points[p];
+      for (std::size_t i = 0; i < n; ++i)
+        buffer[layout == CPX_ROW_MAJOR ? p * n + i : i * g + p] =
+            point.computed && i < point.kappa.size() ? point.kappa[i] : std::nan("");
+    }
   });
 }
 
@@ -50,8 +45,8 @@ cpx_status cpx_sweep_transitions_tsv(const cpx_sweep* sweep, char** tsv) {
   return guard("cpx_sweep_transitions_tsv", [&] {
     require_pointer(sweep, "sweep");
     require_pointer(tsv, "tsv");
-    const Json& section = sweep_section(sweep, "transitions", "transitions (they need chi or Betti curves)");
-    *tsv = copy_string(transitions::summary_tsv(section));
+    if (!sweep->value.transitions) engine_missing("transitions (they need chi or Betti curves)");
+    *tsv = copy_string(output::transitions_tsv(*sweep->value.transitions, sweep->value.densities()));
   });
 }
 
@@ -65,7 +60,7 @@ cpx_status cpx_transitions_from_curves(const double* density, const double* chi,
     if (betti != nullptr) check_layout(layout);
     if (betti != nullptr && dimensions == 0) fail(ErrorKind::argument, "argument 'dimensions' is 0 but 'betti' is given");
     const transitions::Options options = transitions::parse_options(
-        parse_options(options_json, "options of cpx_transitions_from_curves"), "options of cpx_transitions_from_curves");
+        parse_options(options_json, "options of cpx_transitions_from_curves"), "options of cpx_transitions_from_curves", "");
     transitions::Curves cv;
     cv.density.assign(density, density + points);
     if (chi != nullptr) cv.chi.assign(chi, chi + points);
@@ -75,7 +70,8 @@ cpx_status cpx_transitions_from_curves(const double* density, const double* chi,
         for (std::size_t k = 0; k < dimensions; ++k)
           cv.betti[p][k] = betti[layout == CPX_ROW_MAJOR ? p * dimensions + k : k * points + p];
     }
-    Json result = options.enabled ? transitions::analyse(cv, nodes, options) : Json::object();
+    const Json result =
+        options.enabled ? output::transitions_section(transitions::analyse(cv, nodes, options), cv.density) : Json::object();
     *json = copy_string(result.dump());
   });
 }

@@ -4,6 +4,7 @@
 #include <critplex/critplex.h>
 
 #include "connectivity/matrix.hpp"
+#include "output/sweep.hpp"
 #include "pipeline/sweep.hpp"
 #include "series/series.hpp"
 
@@ -17,15 +18,13 @@ struct cpx_matrix {
 
 struct cpx_sweep {
   critplex::pipeline::SweepResult value;
+  std::vector<critplex::output::CurveColumn> columns;  // the curves, made once when the sweep ran
 };
 
 namespace critplex::capi {
 
-// The whole sweep result as the JSON document cpx_sweep_json returns.
-Json sweep_document(const cpx_sweep* sweep);
-// One engine's section ("homology", "transitions", ...); an argument error naming
-// `needed_option` when the sweep ran without it.
-const Json& sweep_section(const cpx_sweep* sweep, const std::string& engine, const std::string& needed_option);
+// An argument error naming `needed_option` when the sweep ran without that engine.
+[[noreturn]] void engine_missing(const std::string& needed_option);
 
 // Copies a rows x columns array given in `layout` into an Eigen matrix.
 Eigen::MatrixXd import_array(const double* data, std::size_t rows, std::size_t columns, cpx_layout layout);

@@ -11,19 +11,21 @@
 
 namespace critplex {
 
-// One step of splitmix64 (Steele, Lea & Flood 2014): a well-mixed 64-bit value from x.
-constexpr std::uint64_t splitmix64(std::uint64_t x) {
-  x += 0x9e3779b97f4a7c15ULL;
+// The output function of splitmix64 (Steele, Lea & Flood 2014): a well-mixed 64-bit
+// value from x.
+constexpr std::uint64_t mix64(std::uint64_t x) {
   x = (x ^ (x >> 30)) * 0xbf58476d1ce4e5b9ULL;
   x = (x ^ (x >> 27)) * 0x94d049bb133111ebULL;
   return x ^ (x >> 31);
 }
 
+// One step of splitmix64: the state advanced by the golden-ratio increment, then mixed.
+constexpr std::uint64_t splitmix64(std::uint64_t x) { return mix64(x + 0x9e3779b97f4a7c15ULL); }
+
 // Independent, reproducible seed of stream `stream` derived from `seed` (e.g. the j-th
-// null draw): streams of one seed, and equal streams of different seeds, do not collide
-// in practice.
+// null draw): the splitmix64 state after `stream` steps from `seed`, mixed.
 constexpr std::uint64_t derived_seed(std::uint64_t seed, std::uint64_t stream) {
-  return splitmix64(seed + 0x9e3779b97f4a7c15ULL * stream);
+  return mix64(seed + 0x9e3779b97f4a7c15ULL * stream);
 }
 
 class Random {

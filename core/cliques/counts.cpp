@@ -14,32 +14,6 @@
 
 namespace critplex::cliques {
 
-Options parse_options(const Json& section) {
-  Options o;
-  if (section.is_null()) return o;
-  if (!section.is_object()) fail(ErrorKind::argument, "sweep options: \"cliques\" must be an object");
-  OptionReader r(section, "sweep options: cliques");
-  const long long dim = r.integer("max_dimension", -1);
-  if (dim < -1 || dim > 1000000) fail(ErrorKind::argument, "sweep options: cliques.max_dimension must be -1 (none) or >= 0, got " + std::to_string(dim));
-  o.max_dimension = static_cast<int>(dim);
-  o.max_work = r.number("max_work", 0.0);
-  if (!(o.max_work >= 0.0)) fail(ErrorKind::argument, "sweep options: cliques.max_work must be >= 0 (0: none)");
-  const long long threads = r.integer("threads", 0);
-  if (threads < 0 || threads > 4096) fail(ErrorKind::argument, "sweep options: cliques.threads must be in [0, 4096] (0: all cores), got " + std::to_string(threads));
-  o.threads = static_cast<int>(threads);
-  o.node_counts = r.boolean("node_counts", false);
-  o.chi_only = r.boolean("chi_only", false);
-  if (o.chi_only && o.node_counts)
-    fail(ErrorKind::argument, "sweep options: cliques.chi_only and cliques.node_counts exclude each other (node counts need every clique size)");
-  r.finish();
-  return o;
-}
-
-Json options_to_json(const Options& o) {
-  return Json{{"max_dimension", o.max_dimension}, {"max_work", o.max_work}, {"threads", o.threads},
-              {"node_counts", o.node_counts}, {"chi_only", o.chi_only}};
-}
-
 namespace {
 
 // Degeneracy order of the graph of all edges to be processed (Matula & Beck; Eppstein,

@@ -22,7 +22,7 @@
 #include <vector>
 
 #include "base/exact.hpp"
-#include "base/options.hpp"
+#include "base/option_schema.hpp"
 #include "cliques/int256.hpp"
 #include "filtration/filtration.hpp"
 
@@ -41,9 +41,9 @@ struct Options {
 };
 
 // The "cliques" section of the sweep options (keys as above, snake_case); unknown keys
-// are errors. A null section gives the defaults.
+// are errors. A null section gives the defaults. Its table: option_section().
+const OptionSection& option_section();
 Options parse_options(const Json& section);
-Json options_to_json(const Options& o);
 
 struct GridCounts {
   std::vector<std::vector<int128>> counts;   // [grid point][k]: k-simplices (cliques of k+1 nodes), k = 0..

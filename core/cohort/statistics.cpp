@@ -449,6 +449,21 @@ ClusterResult cluster_permutation_test(const Eigen::MatrixXd& a, const Eigen::Ma
   return result;
 }
 
+std::pair<double, double> adjusted_means(const Eigen::VectorXd& y, std::size_t n_a, const Eigen::MatrixXd& covariates) {
+  const Eigen::Index n = y.size(), k = covariates.cols();
+  Eigen::MatrixXd x(n, k + 2);
+  x.col(0).setOnes();
+  for (Eigen::Index i = 0; i < n; ++i) x(i, 1) = i < static_cast<Eigen::Index>(n_a) ? 1.0 : 0.0;
+  // Centred covariates put the intercept and the group term at the covariates' mean.
+  for (Eigen::Index c = 0; c < k; ++c) x.col(c + 2) = covariates.col(c).array() - covariates.col(c).mean();
+  const Eigen::ColPivHouseholderQR<Eigen::MatrixXd> qr(x);
+  if (qr.rank() < x.cols())
+    fail(ErrorKind::data, "adjusted means: the design (intercept, group, covariates) is rank deficient; a covariate "
+                          "is constant, duplicated or confounded with the group");
+  const Eigen::VectorXd beta = qr.solve(y);
+  return {beta(0) + beta(1), beta(0)};
+}
+
 std::vector<SummaryTestRow> compare_summaries(const SummaryComparisonInput& in, const PermutationOptions& options) {
   const std::size_t count = in.names.size();
   if (in.a.size() != count || in.b.size() != count)
@@ -469,12 +484,29 @@ std::vector<SummaryTestRow> compare_summaries(const SummaryComparisonInput& in, 
                                     std::to_string(in.covariates_a.rows()) + " + " + std::to_string(in.covariates_b.rows()));
     SummaryTestRow row;
     row.summary = in.names[s];
+    // The subjects with a value and, when adjusting, every covariate.
+    auto usable = [&](const std::vector<double>& v, const Eigen::MatrixXd& cov, std::size_t i) {
+      return !std::isnan(v[i]) && (!adjust || cov.row(static_cast<Eigen::Index>(i)).allFinite());
+    };
     std::vector<double> xa, xb;
     std::vector<Eigen::Index> keep_a, keep_b;
     for (std::size_t i = 0; i < va.size(); ++i)
-      if (std::isnan(va[i])) ++row.missing_a; else xa.push_back(va[i]), keep_a.push_back(static_cast<Eigen::Index>(i));
+      if (usable(va, in.covariates_a, i)) xa.push_back(va[i]), keep_a.push_back(static_cast<Eigen::Index>(i));
+      else ++row.missing_a;
     for (std::size_t i = 0; i < vb.size(); ++i)
-      if (std::isnan(vb[i])) ++row.missing_b; else xb.push_back(vb[i]), keep_b.push_back(static_cast<Eigen::Index>(i));
+      if (usable(vb, in.covariates_b, i)) xb.push_back(vb[i]), keep_b.push_back(static_cast<Eigen::Index>(i));
+      else ++row.missing_b;
+    row.n_a = xa.size();
+    row.n_b = xb.size();
+    if (xa.size() < 2 || xb.size() < 2) {
+      row.note = "fewer than 2 subjects with a value in a group: not tested";
+      rows.push_back(row);
+      continue;
+    }
+    row.raw_mean_a = mean(xa);
+    row.raw_mean_b = mean(xb);
+    row.raw_sd_a = std::sqrt(sample_variance(xa));
+    row.raw_sd_b = std::sqrt(sample_variance(xb));
     try {
       if (adjust) {
         const auto na = static_cast<Eigen::Index>(xa.size()), nb = static_cast<Eigen::Index>(xb.size());
@@ -482,6 +514,7 @@ std::vector<SummaryTestRow> compare_summaries(const SummaryComparisonInput& in, 
         Eigen::MatrixXd x(na + nb, in.covariates_a.cols());
         for (Eigen::Index i = 0; i < na; ++i) y(i) = xa[static_cast<std::size_t>(i)], x.row(i) = in.covariates_a.row(keep_a[static_cast<std::size_t>(i)]);
         for (Eigen::Index i = 0; i < nb; ++i) y(na + i) = xb[static_cast<std::size_t>(i)], x.row(na + i) = in.covariates_b.row(keep_b[static_cast<std::size_t>(i)]);
+        std::tie(row.adjusted_mean_a, row.adjusted_mean_b) = adjusted_means(y, xa.size(), x);
         const Eigen::VectorXd r = residualise(y, x);
         for (Eigen::Index i = 0; i < na; ++i) xa[static_cast<std::size_t>(i)] = r(i);
         for (Eigen::Index i = 0; i < nb; ++i) xb[static_cast<std::size_t>(i)] = r(na + i);
@@ -490,11 +523,13 @@ std::vector<SummaryTestRow> compare_summaries(const SummaryComparisonInput& in, 
     } catch (const Error& e) {
       fail(e.kind(), "summary '" + in.names[s] + "': " + e.what());
     }
+    row.tested = true;
     p_values.push_back(row.result.p_value);
     rows.push_back(row);
   }
   const auto adjusted = benjamini_hochberg(p_values);
-  for (std::size_t s = 0; s < rows.size(); ++s) rows[s].p_adjusted = adjusted[s];
+  for (std::size_t s = 0, k = 0; s < rows.size(); ++s)
+    if (rows[s].tested) rows[s].p_adjusted = adjusted[k++];
   return rows;
 }
 

@@ -145,10 +145,14 @@ ClusterResult cluster_permutation_test(const Eigen::MatrixXd& a, const Eigen::Ma
 // --- several per-subject summaries at once --------------------------------------------
 // Each summary (first transition density, each chi zero, Betti peak positions, curvature
 // moments, ...) is tested with permutation_test; Benjamini-Hochberg adjusts across the
-// summaries. NaN marks a subject without that summary (e.g. chi never changes sign): the
-// subject is left out of that summary's test only. With covariates, each summary is first
-// replaced by its residuals on the covariates (pooled over both groups, intercept
-// included); the statistic, the means and Hedges' g are then those of the residuals.
+// summaries tested. NaN marks a subject without that summary (e.g. chi never changes
+// sign), or without a covariate: the subject is left out of that summary's test only. A
+// summary with fewer than 2 subjects in a group is reported as not tested. With
+// covariates, each summary is first replaced by its residuals on the covariates (pooled
+// over both groups, intercept included); the statistic and Hedges' g are then those of
+// the residuals. The raw means and standard deviations are always reported, and with
+// covariates also the adjusted means: the least-squares fit of value ~ 1 + group +
+// covariates evaluated at the covariates' mean (the "estimated marginal means").
 struct SummaryComparisonInput {
   std::vector<std::string> names;           // one per summary
   std::vector<std::vector<double>> a, b;    // [summary][subject]
@@ -158,11 +162,22 @@ struct SummaryComparisonInput {
 
 struct SummaryTestRow {
   std::string summary;
-  PermutationResult result;
-  double p_adjusted = 1.0;
-  std::size_t missing_a = 0, missing_b = 0;  // subjects left out (NaN)
+  bool tested = false;
+  std::string note;                          // why not tested
+  PermutationResult result;                  // when tested (statistic and g of the residuals with covariates)
+  double p_adjusted = std::numeric_limits<double>::quiet_NaN();
+  std::size_t n_a = 0, n_b = 0;              // subjects used
+  std::size_t missing_a = 0, missing_b = 0;  // subjects left out (NaN value or covariate)
+  double raw_mean_a = 0, raw_mean_b = 0, raw_sd_a = 0, raw_sd_b = 0;
+  double adjusted_mean_a = std::numeric_limits<double>::quiet_NaN();
+  double adjusted_mean_b = std::numeric_limits<double>::quiet_NaN();
 };
 
 std::vector<SummaryTestRow> compare_summaries(const SummaryComparisonInput& input, const PermutationOptions& options);
+
+// Adjusted group means: least squares of y on [1, indicator of group a, covariates], at
+// the covariates' mean. Rows: group a's subjects first (n_a of them), then group b's.
+// Errors when the design is rank deficient.
+std::pair<double, double> adjusted_means(const Eigen::VectorXd& y, std::size_t n_a, const Eigen::MatrixXd& covariates);
 
 }  // namespace critplex::cohort

@@ -1,13 +1,13 @@
 // The curvature engine of a sweep: node curvature (from the clique engine's per-node
 // curvature sums, cliques::Options::node_curvature, or else its node clique counts) and
-// Forman-Ricci edge curvature at every grid point, their distributions,
-// the Gauss-Bonnet check, curve columns and the "curvature" JSON section.
+// Forman-Ricci edge curvature at every grid point, their distributions and the
+// Gauss-Bonnet check (core/output writes the columns and the JSON section).
 #pragma once
 
 #include <string>
 #include <vector>
 
-#include "base/options.hpp"
+#include "base/option_schema.hpp"
 #include "cliques/counts.hpp"
 #include "curvature/curvature.hpp"
 #include "filtration/filtration.hpp"
@@ -27,7 +27,8 @@ struct Options {
   std::vector<double> node_range;    // [lo, hi] for kappa (fixed bins only)
   std::vector<double> forman_range;  // [lo, hi] for Forman-Ricci (fixed bins only)
 };
-// The "curvature" section of the sweep options (README, "Curvature and transitions").
+// The "curvature" section of the sweep options; its table: option_section().
+const OptionSection& option_section();
 Options parse_options(const Json& section);
 
 struct PointCurvature {
@@ -50,14 +51,5 @@ struct OnGrid {
 
 OnGrid on_grid(const filtration::Filtration& f, const std::vector<filtration::GridPoint>& grid,
                const cliques::GridCounts& counts, const Options& options);
-
-// Curve columns: kappa_mean, kappa_sd, kappa_skewness, kappa_kurtosis, kappa_min,
-// kappa_q<level>..., kappa_max, gauss_bonnet_error, then forman_mean, forman_sd,
-// forman_skewness, forman_kurtosis, forman_min, forman_max.
-void add_columns(const OnGrid& c, std::vector<std::string>& columns, std::vector<std::vector<std::string>>& rows);
-Json to_json(const OnGrid& c, const std::vector<std::string>& names);
-
-// A JSON number, or null for NaN and infinities.
-Json number_or_null(double x);
 
 }  // namespace critplex::curvature

@@ -14,27 +14,6 @@
 
 namespace critplex::homology {
 
-Options parse_options(const Json& section) {
-  Json object = section.is_null() ? Json::object() : section;
-  OptionReader r(object, "sweep options: homology");
-  Options o;
-  const long long k = r.integer("max_dimension", 2);
-  if (k < 0 || k > 30)
-    fail(ErrorKind::argument, "sweep options: homology: \"max_dimension\" must be in 0..30, got " + std::to_string(k));
-  o.max_dimension = static_cast<int>(k);
-  o.max_work = r.number("max_work", 0.0);
-  if (o.max_work < 0)
-    fail(ErrorKind::argument, "sweep options: homology: \"max_work\" must be >= 0 (0 = no limit), got " +
-                                  std::to_string(o.max_work));
-  const long long t = r.integer("threads", 0);
-  if (t < 0 || t > 1024)
-    fail(ErrorKind::argument, "sweep options: homology: \"threads\" must be in 0..1024 (0 = every core), got " +
-                                  std::to_string(t));
-  o.threads = static_cast<int>(t);
-  r.finish();
-  return o;
-}
-
 namespace {
 
 using u32 = std::uint32_t;
@@ -673,41 +652,6 @@ double rank_density(const filtration::Filtration& f, std::size_t rank) {
   return rank == 0 ? 0.0 : f.density(f.tie_group_end(rank));
 }
 
-Json to_json(const Result& result, const filtration::Filtration& f) {
-  Json j;
-  j["coefficients"] = "Z/2";
-  j["max_dimension"] = result.max_dimension;
-  j["complete_dimension"] = result.complete_dimension;
-  j["complete_to_density"] = result.complete_to_density;
-  j["stopped_by"] = result.stopped_by.empty() ? Json(nullptr) : Json(result.stopped_by);
-  j["work"] = result.work;
-  auto threshold = [&](std::size_t rank) { return rank == 0 ? Json(nullptr) : Json(f.edges[rank - 1].value); };
-  Json bars = Json::array();
-  std::vector<std::size_t> counts(static_cast<std::size_t>(std::max(0, result.complete_dimension + 1)), 0);
-  for (const auto& b : result.bars) {
-    ++counts[static_cast<std::size_t>(b.dimension)];
-    Json bar = {{"dimension", b.dimension},
-                {"birth_rank", b.birth_rank},
-                {"birth_density", rank_density(f, b.birth_rank)},
-                {"birth_threshold", threshold(b.birth_rank)},
-                {"essential", b.essential}};
-    bar["death_rank"] = b.essential ? Json(nullptr) : Json(b.death_rank);
-    bar["death_density"] = b.essential ? Json(nullptr) : Json(rank_density(f, b.death_rank));
-    bar["death_threshold"] = b.essential ? Json(nullptr) : threshold(b.death_rank);
-    bars.push_back(std::move(bar));
-  }
-  j["bars"] = std::move(bars);
-  j["bar_counts"] = counts;
-  Json curves = Json::array();
-  for (std::size_t k = 0; k < counts.size(); ++k) {
-    Json curve = Json::array();
-    for (const auto& point : result.betti) curve.push_back(point[k]);
-    curves.push_back(std::move(curve));
-  }
-  j["betti"] = std::move(curves);
-  return j;
-}
-
 std::size_t check_euler_poincare(const Result& result, const std::vector<std::vector<int128>>& counts,
                                  const std::vector<int128>& chi, std::size_t complete_points) {
   std::size_t checked = 0;
@@ -728,16 +672,6 @@ std::size_t check_euler_poincare(const Result& result, const std::vector<std::ve
     ++checked;
   }
   return checked;
-}
-
-void add_columns(const Result& result, std::vector<std::string>& columns,
-                 std::vector<std::vector<std::string>>& rows) {
-  for (int k = 0; k <= result.max_dimension; ++k) columns.push_back("betti_" + std::to_string(k));
-  for (std::size_t g = 0; g < rows.size(); ++g)
-    for (int k = 0; k <= result.max_dimension; ++k)
-      rows[g].push_back(k <= result.complete_dimension && g < result.betti.size()
-                            ? std::to_string(result.betti[g][static_cast<std::size_t>(k)])
-                            : "NA");
 }
 
 }  // namespace critplex::homology

@@ -15,7 +15,7 @@
 #include <vector>
 
 #include "base/exact.hpp"
-#include "base/options.hpp"
+#include "base/option_schema.hpp"
 #include "filtration/filtration.hpp"
 
 namespace critplex::homology {
@@ -27,7 +27,8 @@ struct Options {
 };
 
 // Reads the "homology" section of the sweep options: {"max_dimension", "max_work",
-// "threads"}; unknown keys are errors.
+// "threads"}; unknown keys are errors. Its table: option_section().
+const OptionSection& option_section();
 Options parse_options(const Json& section);
 
 struct Bar {
@@ -61,13 +62,6 @@ std::vector<std::vector<long long>> betti_on_grid(const std::vector<Bar>& bars, 
 // Density of a rank: after the whole tie group of edge `rank` (as the grid reports).
 double rank_density(const filtration::Filtration& filtration, std::size_t rank);
 
-// The "homology" section of the sweep JSON: bars in rank, density and weight units.
-Json to_json(const Result& result, const filtration::Filtration& filtration);
-
-// Appends the columns betti_0..betti_K to a sweep's curve table ("NA" where a budget
-// left a dimension incomplete).
-void add_columns(const Result& result, std::vector<std::string>& columns,
-                 std::vector<std::vector<std::string>>& rows);
 
 // Euler-Poincare against the clique engine: at each grid point g < complete_points
 // whose clique counts show no simplex above the computed dimensions, chi must equal

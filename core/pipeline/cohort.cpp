@@ -16,6 +16,7 @@
 
 #include "base/error.hpp"
 #include "io/files.hpp"
+#include "output/subject.hpp"
 
 namespace critplex::pipeline {
 
@@ -50,6 +51,13 @@ std::string finished_fingerprint(const std::string& path) {
   } catch (const std::exception&) {
     return "";  // unreadable or foreign: recompute
   }
+}
+
+// At most `budget` threads for every engine of a sweep (0, "every core", becomes the budget).
+void limit_threads(SweepOptions& sweep, int budget) {
+  auto limit = [budget](int& threads) { threads = threads == 0 ? budget : std::min(threads, budget); };
+  if (sweep.cliques) limit(sweep.cliques->threads);
+  if (sweep.homology) limit(sweep.homology->threads);
 }
 
 }  // namespace
@@ -173,23 +181,22 @@ CohortSummary run_cohort(const std::string& manifest_path, const Json& config, c
   std::mutex mutex;
   std::condition_variable changed;
 
+  // Threads are decided once for the whole run: W subjects side by side, each engine of a
+  // subject with at most cores / W threads, so the process never runs more than the cores.
+  const int engine_threads = static_cast<int>(std::max<std::size_t>(1, cores / std::max<std::size_t>(workers, 1)));
+  for (auto& c : configs) limit_threads(c.sweep, engine_threads);
+
   auto work = [&]() {
     while (!cancelled) {
       const std::size_t i = next++;
       if (i >= configs.size()) return;
-      SubjectConfig c = configs[i];
-      // Subjects run side by side, so each keeps to one thread inside.
-      if (!c.sweep_options.contains("cliques") || c.sweep_options["cliques"].is_object()) {
-        Json& cl = c.sweep_options["cliques"];
-        if (cl.is_null()) cl = Json::object();
-        if (!cl.contains("threads")) cl["threads"] = 1;
-      }
+      const SubjectConfig& c = configs[i];
       SubjectOutcome& out = summary.outcomes[i];
       out.subject = c.id;
       out.group = c.group;
       const auto t0 = std::chrono::steady_clock::now();
       try {
-        const std::string doc_path = out_dir + "/" + subject_prefix(c.id, "") + "_topology.json";
+        const std::string doc_path = out_dir + "/" + output::subject_prefix(c.id, "") + "_topology.json";
         const std::string fingerprint = subject_fingerprint(c, input_checksums(c));
         if (!options.force && finished_fingerprint(doc_path) == fingerprint) {
           out.status = "skipped";

@@ -1,13 +1,19 @@
 // Group comparison of finished subjects: group mean curves with bootstrap bands,
 // permutation tests of per-subject summaries (Hedges g, Benjamini-Hochberg across the
 // table, covariates regressed out when asked), a cluster-based permutation test along
-// the density axis, and the null baselines; then the report built from it.
+// the density axis, and the null baselines. Every statistic comes from core/cohort;
+// core/output writes the result and the report is built from it.
 #pragma once
 
+#include <cstdint>
+#include <map>
+#include <optional>
 #include <string>
 #include <vector>
 
-#include "base/options.hpp"
+#include "base/option_schema.hpp"
+#include "cohort/statistics.hpp"
+#include "output/subject_record.hpp"
 
 namespace critplex::pipeline {
 
@@ -20,17 +26,61 @@ struct CompareOptions {
   std::vector<std::string> covariates;     // regressed out of every summary before testing
   std::vector<std::string> cluster_curves{"chi"};
 };
+const OptionSection& compare_option_section();
 CompareOptions parse_compare_options(const Json& options);
 
+// A group's curves and per-subject values.
+struct GroupResult {
+  std::string name;
+  std::vector<std::string> subjects;
+  std::map<std::string, cohort::Band> curves;  // chi, betti_k, kappa_mean, kappa_sd, forman_mean (complete ones)
+  std::map<std::string, std::vector<double>> summaries;  // per subject, NaN where missing
+  std::vector<double> curvature_at_transition;  // node curvatures at each subject's first chi zero, pooled
+};
+
+// One permutation test of a summary between two groups: group a (a later group) minus
+// group b (the first). row.p_adjusted is Benjamini-Hochberg across the whole table.
+struct SummaryTest {
+  std::string group_a, group_b;
+  std::vector<std::string> covariates;  // regressed out (empty: none)
+  cohort::SummaryTestRow row;
+};
+
+struct ClusterTest {
+  std::string curve, group_a, group_b;
+  std::vector<double> density;  // the grid points tested (where every subject has a value and the groups vary)
+  std::optional<cohort::ClusterResult> result;
+  std::string note;
+};
+
+struct NullBaseline {
+  std::string label;
+  std::vector<double> density, chi;
+};
+
+struct Comparison {
+  CompareOptions options;
+  std::size_t regions = 0;
+  std::vector<double> density;  // the grid as requested
+  std::vector<GroupResult> groups;
+  std::vector<SummaryTest> tests;
+  std::vector<ClusterTest> clusters;
+  std::optional<NullBaseline> null_baseline;
+  std::vector<std::string> missing;  // listed subjects without a finished result
+};
+
+// The comparison of subjects already read.
+Comparison compare(const std::vector<output::SubjectRecord>& subjects, const CompareOptions& options);
+
 // Reads every finished subject document in `dir` (listed by dir/manifest.tsv when
-// present, else every sub-*_topology.json) and returns the comparison document.
-Json compare_cohort(const std::string& dir, const CompareOptions& options);
+// present, else every sub-*_topology.json) and compares them.
+Comparison compare_cohort(const std::string& dir, const CompareOptions& options);
 
-// Writes group_comparison.json and group_tests.tsv into dir; returns the document.
-Json compare_and_write(const std::string& dir, const CompareOptions& options);
+// compare_cohort, then writes group_comparison.json and group_tests.tsv into dir.
+Comparison compare_and_write(const std::string& dir, const CompareOptions& options);
 
-// The self-contained HTML report of a comparison document; `created` is a date supplied
-// by the caller (core has no clock).
-std::string report_html(const Json& comparison, const std::string& created);
+// The self-contained HTML report of a comparison; `created` is a date supplied by the
+// caller (core has no clock).
+std::string report_html(const Comparison& comparison, const std::string& created);
 
 }  // namespace critplex::pipeline

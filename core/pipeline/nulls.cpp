@@ -13,20 +13,42 @@
 
 namespace critplex::pipeline {
 
+const OptionSection& null_option_section() {
+  static const OptionSection section{
+      "subject.null",
+      "subject config: null",
+      "the subject and cohort config's \"null\"",
+      "The null model a subject's first transition is read against.",
+      {{.key = "model", .type = "choice", .default_value = "none",
+        .choices = {"none", "phase_multivariate", "phase_independent", "iaaft", "rewire"},
+        .meaning = "surrogate series through the same cleaning, filtering, estimator and sweep (chi only), or "
+                   "degree-preserving rewiring of the graph at every grid density"},
+       {.key = "count", .type = "integer", .default_value = 19, .min = 2, .max = 10000,
+        .meaning = "null draws (surrogates or rewirings)"},
+       {.key = "seed", .type = "integer", .default_value = 1, .min = 0, .meaning = "seed of every random choice"},
+       {.key = "iaaft_iterations", .type = "integer", .default_value = 100, .min = 1, .max = 100000,
+        .meaning = "IAAFT iterations (stops early at a fixed point)"},
+       {.key = "rewire_swaps_per_edge", .type = "number", .default_value = 10.0, .min = 0, .min_open = true,
+        .meaning = "degree-preserving swaps per edge (Maslov & Sneppen 2002)"}}};
+  return section;
+}
+
+NullSpec parse_null_spec(const Json& section, const std::string& where) {
+  SchemaReader r(section.is_null() ? Json::object() : section, null_option_section(), where);
+  NullSpec s;
+  s.model = r.choice("model");
+  s.count = static_cast<int>(r.integer("count"));
+  s.seed = static_cast<std::uint64_t>(r.integer("seed"));
+  s.iaaft_iterations = static_cast<int>(r.integer("iaaft_iterations"));
+  s.rewire_swaps_per_edge = r.number("rewire_swaps_per_edge");
+  r.finish();
+  return s;
+}
+
 namespace {
 
 // Independent, reproducible seeds for the j-th null draw.
 std::uint64_t draw_seed(std::uint64_t seed, std::uint64_t j) { return derived_seed(seed, j + 1); }
-
-std::vector<double> column(const SweepResult& s, const std::string& name) {
-  for (std::size_t c = 0; c < s.columns.size(); ++c)
-    if (s.columns[c] == name) {
-      std::vector<double> v;
-      for (const auto& row : s.rows) v.push_back(curve_cell_value(row[c]));
-      return v;
-    }
-  fail(ErrorKind::internal, "sweep has no column \"" + name + "\"");
-}
 
 double first_zero_of(const std::vector<double>& density, const std::vector<double>& chi) {
   for (const auto& c : transitions::sign_changes(density, chi))
@@ -48,68 +70,66 @@ int128 chi_of_graph(std::size_t nodes, const simulate::EdgeList& edges, int thre
   cliques::Options o;
   o.chi_only = true;
   o.threads = threads;
-  auto counts = cliques::count_on_grid(f, {end}, o, nullptr);
-  return counts.chi.at(0);
+  return cliques::count_on_grid(f, {end}, o, nullptr).chi.at(0);
 }
 
-Json summary_of(const std::vector<double>& firsts, double observed) {
-  std::vector<double> finite;
-  for (double x : firsts)
-    if (std::isfinite(x)) finite.push_back(x);
-  Json j;
-  j["values"] = Json::array();
-  for (double x : firsts) j["values"].push_back(std::isfinite(x) ? Json(x) : Json(nullptr));
-  j["with_zero"] = finite.size();
-  j["observed"] = std::isfinite(observed) ? Json(observed) : Json(nullptr);
-  if (finite.size() >= 2) {
-    j["mean"] = cohort::mean(finite);
-    j["sd"] = std::sqrt(cohort::sample_variance(finite));
-    const double z = std::isfinite(observed) ? cohort::z_score(observed, finite) : std::nan("");
-    j["z"] = std::isfinite(z) ? Json(z) : Json(nullptr);
-  } else {
-    j["mean"] = nullptr;
-    j["sd"] = nullptr;
-    j["z"] = nullptr;
-  }
-  return j;
+std::vector<double> finite_values(const std::vector<double>& x) {
+  std::vector<double> out;
+  for (double v : x)
+    if (std::isfinite(v)) out.push_back(v);
+  return out;
 }
 
 }  // namespace
 
+std::size_t NullResult::with_zero() const { return finite_values(first_zeros).size(); }
+
+double NullResult::mean() const {
+  const auto f = finite_values(first_zeros);
+  return f.size() >= 2 ? cohort::mean(f) : std::numeric_limits<double>::quiet_NaN();
+}
+
+double NullResult::sd() const {
+  const auto f = finite_values(first_zeros);
+  return f.size() >= 2 ? std::sqrt(cohort::sample_variance(f)) : std::numeric_limits<double>::quiet_NaN();
+}
+
+double NullResult::z() const {
+  const auto f = finite_values(first_zeros);
+  if (f.size() < 2 || !std::isfinite(observed_first)) return std::numeric_limits<double>::quiet_NaN();
+  return cohort::z_score(observed_first, f);
+}
+
 SweepOptions null_sweep_options(const SweepOptions& options) {
-  SweepOptions o = options;
-  Json cliques = Json::object();
-  if (options.engine_options.contains("cliques") && options.engine_options["cliques"].is_object() &&
-      options.engine_options["cliques"].contains("threads"))
-    cliques["threads"] = options.engine_options["cliques"]["threads"];
-  cliques["chi_only"] = true;
-  o.engine_options = Json{{"cliques", cliques}, {"transitions", Json{{"random_graph", false}}}};
+  SweepOptions o;
+  o.weights = options.weights;
+  o.grid = options.grid;
+  cliques::Options c;
+  c.chi_only = true;
+  if (options.cliques) c.threads = options.cliques->threads;
+  o.cliques = c;
+  o.transitions.random_graph = false;
   return o;
 }
 
-double first_chi_zero(const SweepResult& sweep) { return first_zero_of(column(sweep, "density"), column(sweep, "chi")); }
-
-Json run_null_model(const NullSpec& spec, const series::Series& series, const connectivity::ConnectOptions& connect,
-                    const series::CleanInputs& inputs, std::size_t band_index, const SweepOptions& sweep_options,
-                    const SweepResult& observed, const ProgressFn& progress) {
-  const std::vector<double> density = column(observed, "density");
-  const double observed_first = first_zero_of(density, column(observed, "chi"));
+NullResult run_null_model(const NullSpec& spec, const series::Series& series,
+                          const connectivity::ConnectOptions& connect, const series::CleanInputs& inputs,
+                          std::size_t band_index, const SweepResult& observed, const ProgressFn& progress) {
+  const std::vector<double> density = observed.densities();
   const std::size_t points = density.size();
+  NullResult result;
+  result.spec = spec;
+  result.observed_first = first_zero_of(density, observed.chi_curve());
   std::vector<std::vector<double>> curves;  // [draw][grid point] chi of the null
-  std::vector<double> firsts;
-  Json details = Json::object();
 
   auto report = [&](std::size_t done) {
     if (progress && progress(static_cast<double>(done) / static_cast<double>(spec.count)))
       fail(ErrorKind::cancelled, "null model cancelled by the progress callback");
   };
+  const int threads = observed.options.cliques ? observed.options.cliques->threads : 0;
 
   if (spec.model == "rewire") {
     // Degree-preserving rewiring of the graph at each grid density, chi of each.
-    int threads = 0;
-    if (sweep_options.engine_options.contains("cliques") && sweep_options.engine_options["cliques"].is_object())
-      threads = static_cast<int>(sweep_options.engine_options["cliques"].value("threads", 0));
-    std::size_t incomplete = 0;
     for (int j = 0; j < spec.count; ++j) {
       std::vector<double> chi(points, 0.0);
       for (std::size_t g = 0; g < points; ++g) {
@@ -117,38 +137,35 @@ Json run_null_model(const NullSpec& spec, const series::Series& series, const co
         ro.swaps_per_edge = spec.rewire_swaps_per_edge;
         ro.seed = draw_seed(spec.seed, static_cast<std::uint64_t>(j) * 100003u + g);
         const auto rewired = simulate::rewire_prefix(observed.filtration, observed.grid[g].edges, ro);
-        if (!rewired.complete) ++incomplete;
-        chi[g] = static_cast<double>(chi_of_graph(observed.nodes, rewired.edges, threads));
+        if (!rewired.complete) ++result.incomplete_rewirings;
+        chi[g] = to_double(chi_of_graph(observed.nodes, rewired.edges, threads));
       }
-      firsts.push_back(first_zero_of(density, chi));
+      result.first_zeros.push_back(first_zero_of(density, chi));
       curves.push_back(std::move(chi));
       report(static_cast<std::size_t>(j) + 1);
     }
-    details["swaps_per_edge"] = spec.rewire_swaps_per_edge;
-    details["incomplete_rewirings"] = incomplete;
   } else {
     // Surrogate time series through the same cleaning, filtering and estimator.
     simulate::SurrogateOptions so;
     so.method = simulate::surrogate_method_from_name(spec.model);
     so.iaaft_iterations = spec.iaaft_iterations;
-    const SweepOptions null_options = null_sweep_options(sweep_options);
+    const SweepOptions null_options = null_sweep_options(observed.options);
     for (int j = 0; j < spec.count; ++j) {
       so.seed = draw_seed(spec.seed, static_cast<std::uint64_t>(j));
       series::Series surrogate = series;
       surrogate.values = simulate::make_surrogate(series.values, so).values;
       auto matrices = connectivity::connect(surrogate, connect, inputs);
-      const auto sweep = run_sweep(matrices.at(band_index).matrix, null_options, nullptr);
-      std::vector<double> chi = column(sweep, "chi");
-      chi.resize(points, std::nan(""));
-      firsts.push_back(first_zero_of(column(sweep, "density"), column(sweep, "chi")));
+      const SweepResult sweep = run_sweep(matrices.at(band_index).matrix, null_options, nullptr);
+      std::vector<double> chi = sweep.chi_curve();
+      result.first_zeros.push_back(first_zero_of(sweep.densities(), chi));
+      chi.resize(points, std::numeric_limits<double>::quiet_NaN());
       curves.push_back(std::move(chi));
       report(static_cast<std::size_t>(j) + 1);
     }
-    if (so.method == simulate::SurrogateMethod::iaaft) details["iaaft_iterations"] = spec.iaaft_iterations;
   }
 
-  // Mean null chi curve on the subject's grid, and the null's first zeros.
-  Json mean_chi = Json::array();
+  // Mean null chi curve on the subject's grid.
+  result.mean_chi.assign(points, std::numeric_limits<double>::quiet_NaN());
   for (std::size_t g = 0; g < points; ++g) {
     double sum = 0.0;
     std::size_t n = 0;
@@ -157,13 +174,9 @@ Json run_null_model(const NullSpec& spec, const series::Series& series, const co
         sum += c[g];
         ++n;
       }
-    mean_chi.push_back(n ? Json(sum / static_cast<double>(n)) : Json(nullptr));
+    if (n) result.mean_chi[g] = sum / static_cast<double>(n);
   }
-  Json j = {{"model", spec.model}, {"count", spec.count}, {"seed", spec.seed}};
-  j["first_chi_zero"] = summary_of(firsts, observed_first);
-  j["mean_chi"] = std::move(mean_chi);
-  j["details"] = std::move(details);
-  return j;
+  return result;
 }
 
 }  // namespace critplex::pipeline

@@ -3,15 +3,35 @@
 #include <cmath>
 
 #include "base/error.hpp"
-#include "connectivity/connect.hpp"
 #include "io/checksum.hpp"
 #include "io/confounds.hpp"
 #include "io/files.hpp"
 #include "io/nifti.hpp"
-#include "pipeline/nulls.hpp"
-#include "transitions/report.hpp"
+#include "output/subject.hpp"
 
 namespace critplex::pipeline {
+
+const OptionSection& subject_option_section() {
+  static const OptionSection section{
+      "subject",
+      "subject config",
+      "cpx_subject_run, critplex subject CONFIG.json; the cohort config (without id, group and input paths)",
+      "One subject end to end: inputs, connectivity, sweep and null model.",
+      {{.key = "id", .type = "string", .meaning = "subject id (letters, digits, '-', '.'); outputs are named sub-<id>_..."},
+       {.key = "group", .type = "string", .default_value = "", .meaning = "carried into the outputs"},
+       {.key = "covariates", .type = "object", .meaning = "numbers carried into the outputs, e.g. {\"age\": 31}"},
+       {.key = "timeseries", .type = "string", .meaning = "TSV/CSV/text/NPY time series (frames down, regions across)"},
+       {.key = "image", .type = "string", .meaning = "a 4-D NIfTI image (instead of timeseries), with labels"},
+       {.key = "labels", .type = "string", .meaning = "the label atlas of image (integer labels on the same grid)"},
+       {.key = "label_names", .type = "string", .meaning = "a TSV of label index and name"},
+       {.key = "confounds", .type = "string", .meaning = "confounds table (sets connect.clean.regressor_table)"},
+       {.key = "read", .type = "object", .meaning = "time-series reading options (format, header; for images sampling_interval)"},
+       {.key = "connect", .type = "object", .meaning = "connect options (section connect)"},
+       {.key = "sweep", .type = "object", .meaning = "sweep options (section sweep and the engine sections)"},
+       {.key = "null", .type = "object", .meaning = "the null model (section subject.null)"},
+       {.key = "base_dir", .type = "string", .meaning = "folder relative paths are taken from (the CLI sets it to the config file's folder)"}}};
+  return section;
+}
 
 namespace {
 
@@ -28,23 +48,35 @@ void check_id(const std::string& id) {
       fail(ErrorKind::argument, "subject config: \"id\" may hold letters, digits, '-' and '.' only, got \"" + id + "\"");
 }
 
+// Paths named inside the connect options (confounds table, frame mask) are taken from
+// the same folder as the config's own.
+void resolve_connect_paths(Json& connect, const std::string& base) {
+  if (!connect.contains("clean") || !connect["clean"].is_object()) return;
+  Json& clean = connect["clean"];
+  if (clean.contains("regressor_table") && clean["regressor_table"].is_string())
+    clean["regressor_table"] = resolve(clean["regressor_table"].get<std::string>(), base);
+  if (clean.contains("censor") && clean["censor"].is_object() && clean["censor"].contains("frame_mask") &&
+      clean["censor"]["frame_mask"].is_string())
+    clean["censor"]["frame_mask"] = resolve(clean["censor"]["frame_mask"].get<std::string>(), base);
+}
+
 }  // namespace
 
 SubjectConfig parse_subject_config(const Json& config, const std::string& base_dir) {
-  OptionReader r(config, "subject config");
+  SchemaReader r(config, subject_option_section());
   SubjectConfig c;
   c.original = config;
   // "base_dir" (e.g. the folder of a config file) anchors relative paths.
   std::string base = base_dir;
-  if (r.has("base_dir")) base = resolve(r.text("base_dir", ""), base_dir);
-  c.id = r.text("id", "");
+  if (r.has("base_dir")) base = resolve(r.text("base_dir"), base_dir);
+  c.id = r.text("id");
   check_id(c.id);
-  c.group = r.text("group", "");
-  c.timeseries = resolve(r.text("timeseries", ""), base);
-  c.image = resolve(r.text("image", ""), base);
-  c.labels = resolve(r.text("labels", ""), base);
-  c.label_names = resolve(r.text("label_names", ""), base);
-  c.confounds = resolve(r.text("confounds", ""), base);
+  c.group = r.text("group");
+  c.timeseries = resolve(r.text("timeseries"), base);
+  c.image = resolve(r.text("image"), base);
+  c.labels = resolve(r.text("labels"), base);
+  c.label_names = resolve(r.text("label_names"), base);
+  const std::string confounds = resolve(r.text("confounds"), base);
   if (c.timeseries.empty() == c.image.empty())
     fail(ErrorKind::argument, "subject config: give either \"timeseries\" or \"image\" (with \"labels\")");
   if (!c.image.empty() && c.labels.empty())
@@ -56,42 +88,24 @@ SubjectConfig parse_subject_config(const Json& config, const std::string& base_d
     return *v;
   };
   c.covariates = object("covariates");
+  for (auto it = c.covariates.begin(); it != c.covariates.end(); ++it)
+    if (!it.value().is_number() && !it.value().is_null())
+      fail(ErrorKind::argument, "subject config: covariate \"" + it.key() + "\" must be a number or null");
   c.read_options = object("read");
-  c.connect_options = object("connect");
-  c.sweep_options = object("sweep");
-  const Json null_section = object("null");
-  OptionReader nr(null_section, "subject config: null");
-  c.null.model = nr.choice("model", "none", {"none", "phase_multivariate", "phase_independent", "iaaft", "rewire"});
-  c.null.count = static_cast<int>(nr.integer("count", 19));
-  if (c.null.count < 2 || c.null.count > 10000)
-    fail(ErrorKind::argument, "subject config: null \"count\" must be in [2, 10000], got " + std::to_string(c.null.count));
-  const long long seed = nr.integer("seed", 1);
-  if (seed < 0) fail(ErrorKind::argument, "subject config: null \"seed\" must be non-negative");
-  c.null.seed = static_cast<std::uint64_t>(seed);
-  c.null.iaaft_iterations = static_cast<int>(nr.integer("iaaft_iterations", 100));
-  c.null.rewire_swaps_per_edge = nr.number("rewire_swaps_per_edge", 10.0);
-  nr.finish();
+  c.connect_given = object("connect");
+  const Json sweep = object("sweep");
+  c.null = parse_null_spec(object("null"), "subject config: null");
   r.finish();
-  if (!c.confounds.empty()) {
-    Json& clean = c.connect_options["clean"];
+  if (!confounds.empty()) {
+    Json& clean = c.connect_given["clean"];
     if (clean.is_null()) clean = Json::object();
     if (clean.contains("regressor_table"))
       fail(ErrorKind::argument, "subject config: give the confounds table either as \"confounds\" or in connect.clean, not both");
-    clean["regressor_table"] = c.confounds;
+    clean["regressor_table"] = confounds;
   }
-  // Resolve relative file names inside the connect options too.
-  if (c.connect_options.contains("clean") && c.connect_options["clean"].is_object()) {
-    Json& clean = c.connect_options["clean"];
-    if (clean.contains("regressor_table") && clean["regressor_table"].is_string())
-      clean["regressor_table"] = resolve(clean["regressor_table"].get<std::string>(), base);
-    if (clean.contains("censor") && clean["censor"].is_object() && clean["censor"].contains("frame_mask") &&
-        clean["censor"]["frame_mask"].is_string())
-      clean["censor"]["frame_mask"] = resolve(clean["censor"]["frame_mask"].get<std::string>(), base);
-  }
-  // Check the options now, so a typo fails before any work (engine sections are checked
-  // when the sweep runs).
-  (void)connectivity::parse_connect_options(c.connect_options, "subject config: connect");
-  (void)parse_sweep_options(c.sweep_options);
+  resolve_connect_paths(c.connect_given, base);
+  c.connect = connectivity::parse_connect_options(c.connect_given, "subject config: connect");
+  c.sweep = parse_sweep_options(sweep);
   return c;
 }
 
@@ -104,125 +118,75 @@ Json input_checksums(const SubjectConfig& c) {
   add("image", c.image);
   add("labels", c.labels);
   add("label_names", c.label_names);
-  if (c.connect_options.contains("clean") && c.connect_options["clean"].is_object()) {
-    const Json& clean = c.connect_options["clean"];
-    if (clean.contains("regressor_table") && clean["regressor_table"].is_string())
-      add("confounds", clean["regressor_table"].get<std::string>());
-    if (clean.contains("censor") && clean["censor"].is_object() && clean["censor"].contains("frame_mask") &&
-        clean["censor"]["frame_mask"].is_string())
-      add("frame_mask", clean["censor"]["frame_mask"].get<std::string>());
-  }
+  add("confounds", c.connect.clean.regressor_table);
+  add("frame_mask", c.connect.clean.frame_mask);
   return inputs;
 }
 
 std::string subject_fingerprint(const SubjectConfig& c, const Json& checksums) {
-  Json basis = {{"version", CRITPLEX_VERSION_STRING}, {"config", c.original}, {"connect", c.connect_options}};
+  Json basis = {{"version", CRITPLEX_VERSION_STRING}, {"config", c.original}, {"connect", c.connect_given}};
   Json sums = Json::object();
   for (auto it = checksums.begin(); it != checksums.end(); ++it) sums[it.key()] = it.value()["sha256"];
   basis["inputs"] = sums;
   return io::sha256_hex(basis.dump());
 }
 
+namespace {
+series::Series read_input_series(const SubjectConfig& config) {
+  if (!config.timeseries.empty()) return io::read_series(config.timeseries, config.read_options);
+  OptionReader rr(config.read_options, "subject config: read");
+  io::ImageOptions image_options;
+  image_options.label_names = config.label_names;
+  if (auto dt = rr.number("sampling_interval")) image_options.sampling_interval = *dt;
+  rr.finish();
+  return io::read_image_series(config.image, config.labels, image_options);
+}
+}  // namespace
+
 SubjectResult run_subject(const SubjectConfig& config, const ProgressFn& progress) {
   SubjectResult result;
   result.config = config;
-  const Json checksums = input_checksums(config);
+  result.checksums = input_checksums(config);
+  result.fingerprint = subject_fingerprint(config, result.checksums);
 
-  series::Series s;
-  if (!config.timeseries.empty()) {
-    s = io::read_series(config.timeseries, config.read_options);
-  } else {
-    OptionReader rr(config.read_options, "subject config: read");
-    io::ImageOptions image_options;
-    image_options.label_names = config.label_names;
-    if (auto dt = rr.number("sampling_interval")) image_options.sampling_interval = *dt;
-    rr.finish();
-    s = io::read_image_series(config.image, config.labels, image_options);
-  }
+  const series::Series s = read_input_series(config);
   result.frames = static_cast<std::size_t>(s.frames());
   result.regions = static_cast<std::size_t>(s.regions());
   result.sampling_interval = s.sampling_interval;
 
-  const auto connect_options = connectivity::parse_connect_options(config.connect_options, "subject config: connect");
-  const auto inputs = io::load_clean_inputs(connect_options.clean);
-  auto matrices = connectivity::connect(s, connect_options, inputs);
-  const SweepOptions sweep_options = parse_sweep_options(config.sweep_options);
+  const auto inputs = io::load_clean_inputs(config.connect.clean);
+  auto matrices = connectivity::connect(s, config.connect, inputs);
 
+  const bool with_null = config.null.model != "none";
   const double share = 1.0 / static_cast<double>(matrices.size());
   for (std::size_t b = 0; b < matrices.size(); ++b) {
     const double base = share * static_cast<double>(b);
     // Without a null model the sweep is the whole work; with one, a tenth of it.
-    const double sweep_share = config.null.model == "none" ? share : share * 0.1;
+    const double sweep_share = with_null ? share * 0.1 : share;
     BandResult band;
     band.band = matrices[b].band;
     band.matrix = std::move(matrices[b].matrix);
-    band.sweep = run_sweep(band.matrix, sweep_options,
+    band.sweep = run_sweep(band.matrix, config.sweep,
                            [&](double f) { return progress && progress(base + sweep_share * f); });
-    if (config.null.model != "none")
-      band.null = run_null_model(config.null, s, connect_options, inputs, b, sweep_options, band.sweep,
-                                 [&](double f) { return progress && progress(base + sweep_share + (share - sweep_share) * f); });
+    if (with_null)
+      band.null = run_null_model(config.null, s, config.connect, inputs, b, band.sweep, [&](double f) {
+        return progress && progress(base + sweep_share + (share - sweep_share) * f);
+      });
     result.bands.push_back(std::move(band));
   }
-  result.provenance = {{"critplex_version", CRITPLEX_VERSION_STRING},
-                       {"config", config.original},
-                       {"connect_options", config.connect_options},
-                       {"inputs", checksums},
-                       {"fingerprint", subject_fingerprint(config, checksums)},
-                       {"null_seed", config.null.seed}};
   if (progress && progress(1.0)) fail(ErrorKind::cancelled, "subject run cancelled by the progress callback");
   return result;
 }
 
-Json subject_document(const SubjectResult& r) {
-  Json doc;
-  doc["kind"] = "critplex subject result";
-  doc["format_version"] = 1;
-  doc["subject"] = r.config.id;
-  doc["group"] = r.config.group;
-  doc["covariates"] = r.config.covariates;
-  doc["series"] = {{"frames", r.frames}, {"regions", r.regions}};
-  doc["series"]["sampling_interval"] = std::isfinite(r.sampling_interval) ? Json(r.sampling_interval) : Json(nullptr);
-  Json bands = Json::array();
-  for (const auto& b : r.bands) {
-    Json entry;
-    entry["band"] = b.band;
-    entry["connectivity"] = b.matrix.info;
-    entry["sweep"] = sweep_to_json(b.sweep);
-    entry["curves"] = sweep_curves_json(b.sweep);
-    entry["null"] = b.null;
-    bands.push_back(std::move(entry));
-  }
-  doc["bands"] = std::move(bands);
-  doc["provenance"] = r.provenance;
-  doc["caution"] = "Research software, not a medical device: not for clinical decisions.";
-  return doc;
-}
-
-std::string subject_prefix(const std::string& id, const std::string& band) {
-  std::string p = "sub-" + id;
-  if (!band.empty()) {
-    std::string safe;
-    for (char c : band) safe.push_back(std::isalnum(static_cast<unsigned char>(c)) ? c : '-');
-    p += "_band-" + safe;
-  }
-  return p;
-}
-
 std::vector<std::string> write_subject_outputs(const SubjectResult& r, const std::string& out_dir) {
+  // Everything is serialised first: a value that cannot be written fails before any file
+  // exists. The document goes last: its presence marks a finished subject.
+  const std::vector<output::NamedText> files = output::subject_files(r);
   std::vector<std::string> written;
-  auto put = [&](const std::string& name, const std::string& bytes) {
-    io::write_file_atomically(out_dir + "/" + name, bytes);
-    written.push_back(name);
-  };
-  // The TSV twins first, the JSON document last: its presence marks a finished subject.
-  for (const auto& b : r.bands) {
-    const std::string prefix = subject_prefix(r.config.id, b.band);
-    put(prefix + "_connectivity.tsv", io::format_matrix(b.matrix, "tsv"));
-    put(prefix + "_curves.tsv", sweep_curves_tsv(b.sweep));
-    if (b.sweep.sections.contains("transitions"))
-      put(prefix + "_transitions.tsv", transitions::summary_tsv(b.sweep.sections.at("transitions")));
+  for (const auto& f : files) {
+    io::write_file_atomically(out_dir + "/" + f.name, f.text);
+    written.push_back(f.name);
   }
-  put(subject_prefix(r.config.id, "") + "_topology.json", subject_document(r).dump(1) + "\n");
   return written;
 }
 

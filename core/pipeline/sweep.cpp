@@ -1,254 +1,202 @@
 #include "pipeline/sweep.hpp"
 
 #include <cmath>
-#include <cstdlib>
-
-#include <optional>
+#include <limits>
 
 #include "base/error.hpp"
-#include "cliques/counts.hpp"
-#include "curvature/on_grid.hpp"
-#include "homology/persistence.hpp"
-#include "io/files.hpp"
-#include "transitions/from_sweep.hpp"
-#include "transitions/report.hpp"
 
 namespace critplex::pipeline {
 
-namespace {
-// Columns "chi", "cliques_0".."cliques_K" (exact decimal text; "NaN" where a budget
-// stopped the sweep) and the JSON section "cliques".
-void add_clique_columns(SweepResult& result, const cliques::GridCounts& gc, const cliques::Options& o) {
-  std::size_t width = 0;
-  for (const auto& c : gc.counts) width = std::max(width, c.size());
-  result.columns.push_back("chi");
-  for (std::size_t k = 0; k < width; ++k) result.columns.push_back("cliques_" + std::to_string(k));
-  for (std::size_t g = 0; g < result.rows.size(); ++g) {
-    const bool exact = g < gc.complete_points;
-    const bool have = !gc.counts[g].empty();
-    auto& row = result.rows[g];
-    row.push_back(exact ? to_decimal(gc.chi[g]) : "NaN");
-    for (std::size_t k = 0; k < width; ++k) {
-      // Past a max_dimension stop, counts up to the cap are still exact.
-      const bool known = have && (exact || o.max_dimension < 0 || static_cast<int>(k) <= o.max_dimension);
-      row.push_back(!known ? "NaN" : k < gc.counts[g].size() ? to_decimal(gc.counts[g][k]) : "0");
-    }
-  }
-  Json section;
-  section["options"] = cliques::options_to_json(o);
-  section["stopped_by"] = gc.stopped_by.empty() ? Json(nullptr) : Json(gc.stopped_by);
-  section["complete_points"] = gc.complete_points;
-  section["complete_to_density"] = gc.complete_points == 0 ? Json(nullptr) : Json(result.grid[gc.complete_points - 1].density);
-  section["complete_edges"] = gc.complete_edges;
-  section["work"] = gc.work;
-  Json points = Json::array();
-  for (std::size_t g = 0; g < result.grid.size(); ++g) {
-    Json point;
-    point["density"] = result.grid[g].density;
-    point["edges"] = result.grid[g].edges;
-    point["complete"] = g < gc.complete_points;
-    point["chi"] = g < gc.complete_points ? Json(to_decimal(gc.chi[g])) : Json(nullptr);
-    Json counts = Json::array();
-    for (const int128 c : gc.counts[g]) counts.push_back(to_decimal(c));
-    point["counts"] = std::move(counts);
-    if (o.node_counts && !gc.node_counts[g].empty()) {
-      Json nodes = Json::array();
-      for (const auto& row : gc.node_counts[g]) {
-        Json r = Json::array();
-        for (const int128 c : row) r.push_back(to_decimal(c));
-        nodes.push_back(std::move(r));
-      }
-      point["node_counts"] = std::move(nodes);
-    }
-    points.push_back(std::move(point));
-  }
-  section["points"] = std::move(points);
-  result.sections["cliques"] = std::move(section);
+const OptionSection& sweep_option_section() {
+  static const OptionSection section{
+      "sweep",
+      "sweep options",
+      "cpx_sweep_run, critplex sweep --options, the subject config's \"sweep\"",
+      "The density filtration, its reporting grid, and one section per engine.",
+      {{.key = "weights", .type = "choice", .default_value = "positive", .choices = {"positive", "absolute", "negative"},
+        .meaning = "positive: edge weight r, only r > 0 enter; absolute: |r|, every pair; negative: -r, only r < 0"},
+       {.key = "max_density", .type = "number", .default_value = 1.0, .min = 0, .max = 1, .min_open = true,
+        .meaning = "stop the filtration at this edge density m / (N(N-1)/2)"},
+       {.key = "grid", .type = "number, \"every\", list of densities, or object", .default_value = 0.01,
+        .meaning = "reporting grid: a density step, \"every\" (after every edge or tie group), a list of densities, "
+                   "or {\"step\"}, {\"densities\"}, {\"thresholds\"}"},
+       {.key = "cliques", .type = "object or false", .default_value = Json::object(),
+        .meaning = "the clique engine (section sweep.cliques); on by default"},
+       {.key = "homology", .type = "object", .meaning = "the homology engine (section sweep.homology); on when given"},
+       {.key = "curvature", .type = "object or true", .meaning = "the curvature engine (section sweep.curvature); on when given"},
+       {.key = "transitions", .type = "object or boolean", .default_value = true,
+        .meaning = "the transitions engine (section sweep.transitions); on whenever chi or Betti curves exist"}}};
+  return section;
 }
+
+const OptionSection& grid_option_section() {
+  static const OptionSection section{
+      "sweep.grid",
+      "sweep options",
+      "the \"grid\" of the sweep options, when given as an object",
+      "The reporting grid as an object: one of its keys.",
+      {{.key = "step", .type = "number", .min = 0, .max = 1, .min_open = true, .meaning = "a density step"},
+       {.key = "densities", .type = "numbers", .min = 0, .max = 1, .meaning = "a list of densities"},
+       {.key = "thresholds", .type = "numbers", .meaning = "a list of matrix values (edges at least this strong)"},
+       {.key = "every", .type = "boolean", .default_value = false,
+        .meaning = "true: after every edge (every tie group)"}}};
+  return section;
+}
+
+namespace {
+
+filtration::GridSpec parse_grid(const Json& g, double max_density) {
+  filtration::GridSpec spec;
+  spec.max_density = max_density;
+  const std::string where = "sweep options: grid";
+  if (g.is_string()) {
+    if (g.get<std::string>() != "every") fail(ErrorKind::argument, where + " as text must be \"every\", got " + g.dump());
+    spec.kind = "every";
+  } else if (g.is_number()) {
+    spec.kind = "step";
+    spec.step = g.get<double>();
+  } else if (g.is_array()) {
+    spec.kind = "list";
+    for (const auto& x : g) {
+      if (!x.is_number()) fail(ErrorKind::argument, where + ": a list must hold numbers, got " + x.dump());
+      spec.values.push_back(x.get<double>());
+    }
+  } else if (g.is_object()) {
+    SchemaReader r(g, grid_option_section());
+    if (r.has("step")) {
+      spec.kind = "step";
+      spec.step = r.number("step");
+    } else if (r.has("densities")) {
+      spec.kind = "list";
+      spec.values = r.numbers("densities");
+    } else if (r.has("thresholds")) {
+      spec.kind = "list";
+      spec.parameter = "threshold";
+      spec.values = r.numbers("thresholds");
+    } else if (r.boolean("every")) {
+      spec.kind = "every";
+    }
+    r.finish();
+    if (static_cast<int>(r.has("step")) + r.has("densities") + r.has("thresholds") + r.has("every") > 1)
+      fail(ErrorKind::argument, where + ": give one of \"step\", \"densities\", \"thresholds\" and \"every\"");
+  } else {
+    fail(ErrorKind::argument, where + " must be \"every\", a step, a list of densities or an object");
+  }
+  if (spec.kind == "step" && !(spec.step > 0.0 && spec.step <= 1.0))
+    fail(ErrorKind::argument, where + ": the density step must be in (0, 1], got " + g.dump());
+  if (spec.kind == "list" && spec.values.empty()) fail(ErrorKind::argument, where + ": the list is empty");
+  return spec;
+}
+
+bool turned_off(const Json* section) { return section != nullptr && section->is_boolean() && !section->get<bool>(); }
+
 }  // namespace
 
+void SweepOptions::validate() const {
+  if (curvature && !cliques)
+    fail(ErrorKind::argument, "sweep options: \"curvature\" needs the clique engine (remove \"cliques\": false)");
+  if (curvature && cliques && cliques->chi_only)
+    fail(ErrorKind::argument, "sweep options: \"curvature\" needs every clique size; drop cliques.chi_only");
+}
+
 SweepOptions parse_sweep_options(const Json& options) {
-  OptionReader r(options, "sweep options");
+  SchemaReader r(options, sweep_option_section());
   SweepOptions o;
-  o.weights = filtration::weight_mode_from_name(r.choice("weights", "positive", {"positive", "absolute", "negative"}));
-  o.grid.max_density = r.number("max_density", 1.0);
-  if (!(o.grid.max_density > 0.0 && o.grid.max_density <= 1.0))
-    fail(ErrorKind::argument, "sweep options: \"max_density\" must be in (0, 1], got " + io::format_double(o.grid.max_density));
-  if (const Json* g = r.raw("grid")) {
-    // "every", a step (number), a list of densities, or an object {"step"|"densities"|"thresholds"}.
-    if (g->is_string()) {
-      if (g->get<std::string>() != "every")
-        fail(ErrorKind::argument, "sweep options: \"grid\" as text must be \"every\", got " + g->dump());
-      o.grid.kind = "every";
-    } else if (g->is_number()) {
-      o.grid.kind = "step";
-      o.grid.step = g->get<double>();
-    } else if (g->is_array()) {
-      o.grid.kind = "list";
-      // OptionReader keeps a reference: the wrapper object must outlive it.
-      const Json wrapped{{"densities", *g}};
-      OptionReader list_reader(wrapped, "sweep options: grid");
-      o.grid.values = list_reader.numbers("densities");
-    } else if (g->is_object()) {
-      OptionReader gr(*g, "sweep options: grid");
-      if (gr.has("step")) {
-        o.grid.kind = "step";
-        o.grid.step = gr.number("step", 0.01);
-      } else if (gr.has("densities")) {
-        o.grid.kind = "list";
-        o.grid.values = gr.numbers("densities");
-      } else if (gr.has("thresholds")) {
-        o.grid.kind = "list";
-        o.grid.parameter = "threshold";
-        o.grid.values = gr.numbers("thresholds");
-      } else if (gr.boolean("every", false)) {
-        o.grid.kind = "every";
-      }
-      gr.finish();
-    } else {
-      fail(ErrorKind::argument, "sweep options: \"grid\" must be \"every\", a step, a list of densities or an object");
-    }
-  }
-  // Engine sections: each engine parses (and checks) its own section in run_sweep.
-  for (const char* engine : {"cliques", "homology", "curvature", "transitions"})
-    if (const Json* section = r.raw(engine)) o.engine_options[engine] = *section;
+  o.weights = filtration::weight_mode_from_name(r.choice("weights"));
+  const double max_density = r.number("max_density");
+  const Json* grid = r.raw("grid");
+  o.grid = grid != nullptr ? parse_grid(*grid, max_density) : parse_grid(Json(0.01), max_density);
+  const Json* cliques = r.raw("cliques");
+  if (turned_off(cliques)) o.cliques.reset();
+  else o.cliques = cliques::parse_options(cliques == nullptr || cliques->is_boolean() ? Json() : *cliques);
+  if (const Json* h = r.raw("homology"); h != nullptr && !turned_off(h)) o.homology = homology::parse_options(*h);
+  if (const Json* c = r.raw("curvature"); c != nullptr && !turned_off(c)) o.curvature = curvature::parse_options(*c);
+  const Json* t = r.raw("transitions");
+  o.transitions = transitions::parse_options(t == nullptr ? Json() : *t, "sweep options", "transitions");
   r.finish();
+  o.validate();
   return o;
 }
 
+std::vector<double> SweepResult::densities() const {
+  std::vector<double> d;
+  d.reserve(grid.size());
+  for (const auto& p : grid) d.push_back(p.density);
+  return d;
+}
+
+std::vector<double> SweepResult::chi_curve() const {
+  std::vector<double> chi;
+  if (!cliques) return chi;
+  chi.assign(grid.size(), std::numeric_limits<double>::quiet_NaN());
+  // The sign and zeros are exact; the magnitude is only for interpolation.
+  for (std::size_t g = 0; g < grid.size() && g < cliques->complete_points; ++g) chi[g] = to_double(cliques->chi[g]);
+  return chi;
+}
+
+transitions::Curves transition_curves(const SweepResult& r) {
+  transitions::Curves cv;
+  cv.density = r.densities();
+  const std::size_t n = cv.density.size();
+  if (r.cliques) {
+    cv.chi = r.chi_curve();
+    cv.chi_exact.assign(n, 0);
+    for (std::size_t g = 0; g < n && g < r.cliques->complete_points; ++g) cv.chi_exact[g] = r.cliques->chi[g];
+  }
+  if (r.homology) {
+    const std::size_t dims = static_cast<std::size_t>(r.homology->max_dimension + 1);
+    cv.betti.assign(n, std::vector<double>(dims, std::numeric_limits<double>::quiet_NaN()));
+    for (std::size_t g = 0; g < n && g < r.homology->betti.size(); ++g)
+      for (std::size_t k = 0; k < dims && static_cast<int>(k) <= r.homology->complete_dimension; ++k)
+        cv.betti[g][k] = static_cast<double>(r.homology->betti[g][k]);
+  }
+  if (r.curvature) {
+    const double nan = std::numeric_limits<double>::quiet_NaN();
+    for (const auto& p : r.curvature->points) {
+      cv.kappa_mean.push_back(p.computed ? p.node.mean : nan);
+      cv.kappa_sd.push_back(p.computed ? p.node.sd : nan);
+      cv.kappa_skewness.push_back(p.computed ? p.node.skewness : nan);
+      cv.kappa_kurtosis.push_back(p.computed ? p.node.kurtosis : nan);
+      cv.forman_mean.push_back(p.forman_computed ? p.forman.mean : nan);
+    }
+  }
+  return cv;
+}
+
 SweepResult run_sweep(const connectivity::Matrix& matrix, const SweepOptions& options, const ProgressFn& progress) {
+  options.validate();
   SweepResult result;
+  result.options = options;
   result.nodes = static_cast<std::size_t>(matrix.values.rows());
   result.names = matrix.names;
   result.filtration = filtration::build(matrix.values, options.weights, options.grid.max_density);
   result.grid = filtration::make_grid(result.filtration, options.grid);
 
-  result.columns = {"density", "threshold", "edges"};
-  for (const auto& p : result.grid)
-    result.rows.push_back({io::format_double(p.density), io::format_double(p.threshold), std::to_string(p.edges)});
-
-  // Engines add their columns and sections here, in this order:
-  // cliques (counts, chi), homology (betti), curvature, transitions.
-
-  // --- cliques: exact clique counts Cl_k and chi (core/cliques). On by default;
-  // "cliques": false turns it off. Later blocks (curvature) read clique_counts.
-  cliques::GridCounts clique_counts;
-  bool have_clique_counts = false;
-  const bool wants_curvature = options.engine_options.contains("curvature") &&
-                               !(options.engine_options.at("curvature").is_boolean() &&
-                                 !options.engine_options.at("curvature").get<bool>());
-  {
-    const Json section = options.engine_options.contains("cliques") ? options.engine_options.at("cliques") : Json();
-    if (!(section.is_boolean() && !section.get<bool>())) {
-      cliques::Options copt = cliques::parse_options(section.is_boolean() ? Json() : section);
-      if (wants_curvature && copt.chi_only)
-        fail(ErrorKind::argument, "sweep options: \"curvature\" needs every clique size; drop cliques.chi_only");
-      // The curvature block reads per-node curvature sums taken straight from the
-      // pivoting tree's leaves (no per-size node counts needed).
-      copt.node_curvature = wants_curvature;
-      clique_counts = cliques::count_on_grid(result.filtration, result.grid, copt, progress);
-      have_clique_counts = true;
-      add_clique_columns(result, clique_counts, copt);
-    }
+  // Cliques: exact counts Cl_k and chi (core/cliques). With curvature on, the engine also
+  // sums each node's Gauss-Bonnet share straight from its counting tree.
+  if (options.cliques) {
+    cliques::Options copt = *options.cliques;
+    copt.node_curvature = options.curvature.has_value();
+    result.cliques = cliques::count_on_grid(result.filtration, result.grid, copt, progress);
   }
-  (void)have_clique_counts;
-
-  // --- homology: barcodes and Betti curves betti_0..betti_K (core/homology). On when
-  // the options have a "homology" section (the CLI's --betti K). Where the clique
-  // engine ran and no simplex lies above the computed dimensions, Euler-Poincare
-  // (chi = sum (-1)^k beta_k) must hold exactly: a mismatch is a bug, never output.
-  if (options.engine_options.contains("homology")) {
-    const homology::Options hopt = homology::parse_options(options.engine_options.at("homology"));
-    const homology::Result bars = homology::compute(result.filtration, result.grid, hopt, progress);
-    homology::add_columns(bars, result.columns, result.rows);
-    Json section = homology::to_json(bars, result.filtration);
-    if (have_clique_counts) {
-      const auto checked = homology::check_euler_poincare(bars, clique_counts.counts, clique_counts.chi,
-                                                          clique_counts.complete_points);
-      section["euler_poincare_checked_points"] = checked;
-    }
-    result.sections["homology"] = std::move(section);
+  // Homology: bars and Betti curves (core/homology). Where the clique engine ran and no
+  // simplex lies above the computed dimensions, Euler-Poincare (chi = sum (-1)^k beta_k)
+  // must hold exactly: a mismatch is a bug, never output.
+  if (options.homology) {
+    result.homology = homology::compute(result.filtration, result.grid, *options.homology, progress);
+    if (result.cliques)
+      result.euler_poincare_checked = homology::check_euler_poincare(
+          *result.homology, result.cliques->counts, result.cliques->chi, result.cliques->complete_points);
   }
-
-  // --- curvature: Gauss-Bonnet node curvature from the clique engine's per-node sums, with
-  // the identity sum kappa_i = chi checked at every point, and Forman-Ricci edge
-  // curvature (core/curvature). On when the options have a "curvature" section (the
-  // CLI's --curvature).
-  std::optional<curvature::OnGrid> curvature_grid;
-  if (wants_curvature) {
-    if (!have_clique_counts)
-      fail(ErrorKind::argument, "sweep options: \"curvature\" needs the clique engine (remove \"cliques\": false)");
-    const curvature::Options kopt = curvature::parse_options(options.engine_options.at("curvature"));
-    curvature_grid = curvature::on_grid(result.filtration, result.grid, clique_counts, kopt);
-    curvature::add_columns(*curvature_grid, result.columns, result.rows);
-    result.sections["curvature"] = curvature::to_json(*curvature_grid, result.names);
-  }
-
-  // --- transitions: zeros of chi, Betti crossings and peaks, the Erdos-Renyi reference
-  // and the summary record (core/transitions). On whenever chi or Betti curves exist;
-  // "transitions": false turns it off.
-  {
-    const Json section = options.engine_options.contains("transitions") ? options.engine_options.at("transitions") : Json();
-    const transitions::Options topt = transitions::parse_options(section, "sweep options: transitions");
-    transitions::Curves curves = transitions::gather(result.grid, have_clique_counts ? &clique_counts : nullptr,
-                                                     curvature_grid ? &*curvature_grid : nullptr, result.columns,
-                                                     result.rows);
-    if (topt.enabled && (!curves.chi.empty() || !curves.betti.empty())) {
-      transitions::add_columns(curves, result.columns, result.rows);
-      result.sections["transitions"] = transitions::analyse(curves, result.nodes, topt);
-    }
-  }
+  // Curvature: node curvature with Gauss-Bonnet checked at every point, Forman-Ricci.
+  if (options.curvature)
+    result.curvature = curvature::on_grid(result.filtration, result.grid, *result.cliques, *options.curvature);
+  // Transitions: zeros of chi, Betti crossings and peaks, the random-graph reference.
+  if (options.transitions.enabled && (result.cliques || result.homology))
+    result.transitions = transitions::analyse(transition_curves(result), result.nodes, options.transitions);
 
   if (progress && progress(1.0)) fail(ErrorKind::cancelled, "sweep cancelled by the progress callback");
   return result;
-}
-
-Json sweep_to_json(const SweepResult& result) {
-  Json j;
-  j["nodes"] = result.nodes;
-  j["names"] = result.names;
-  j["weights"] = filtration::weight_mode_name(result.filtration.mode);
-  j["pairs"] = result.filtration.pairs();
-  Json grid = Json::array();
-  for (const auto& p : result.grid) {
-    Json point = {{"requested", p.requested}, {"density", p.density}, {"edges", p.edges}};
-    point["threshold"] = p.edges == 0 ? Json(nullptr) : Json(p.threshold);
-    grid.push_back(point);
-  }
-  j["grid"] = std::move(grid);
-  for (auto it = result.sections.begin(); it != result.sections.end(); ++it) j[it.key()] = it.value();
-  return j;
-}
-
-std::string sweep_curves_tsv(const SweepResult& result) {
-  std::string s;
-  for (std::size_t c = 0; c < result.columns.size(); ++c) s += (c ? "\t" : "") + result.columns[c];
-  s += "\n";
-  for (const auto& row : result.rows) {
-    for (std::size_t c = 0; c < row.size(); ++c) s += (c ? "\t" : "") + row[c];
-    s += "\n";
-  }
-  return s;
-}
-
-double curve_cell_value(const std::string& cell) {
-  if (cell.empty()) return std::nan("");
-  char* end = nullptr;
-  const double x = std::strtod(cell.c_str(), &end);
-  return end == cell.c_str() + cell.size() && std::isfinite(x) ? x : std::nan("");
-}
-
-Json sweep_curves_json(const SweepResult& result) {
-  Json j = Json::object();
-  for (std::size_t c = 0; c < result.columns.size(); ++c) {
-    Json values = Json::array();
-    for (const auto& row : result.rows) {
-      const double x = curve_cell_value(row[c]);
-      values.push_back(std::isfinite(x) ? Json(x) : Json(nullptr));
-    }
-    j[result.columns[c]] = std::move(values);
-  }
-  return j;
 }
 
 }  // namespace critplex::pipeline

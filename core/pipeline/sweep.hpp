@@ -1,15 +1,22 @@
 // One sweep of a connectivity matrix: the filtration, the reporting grid, and every
 // engine the options ask for (cliques, homology, curvature, transitions). The engines
-// live in their own stages; this file only wires them together.
+// live in their own stages; this file wires them and keeps their typed results side by
+// side. Options are parsed once, at the edge, into SweepOptions; core/output turns a
+// SweepResult into JSON and TSV.
 #pragma once
 
 #include <functional>
 #include <optional>
 #include <string>
+#include <vector>
 
-#include "base/options.hpp"
+#include "base/option_schema.hpp"
+#include "cliques/counts.hpp"
 #include "connectivity/matrix.hpp"
+#include "curvature/on_grid.hpp"
 #include "filtration/filtration.hpp"
+#include "homology/persistence.hpp"
+#include "transitions/analysis.hpp"
 
 namespace critplex::pipeline {
 
@@ -18,12 +25,20 @@ using ProgressFn = std::function<bool(double)>;
 
 struct SweepOptions {
   filtration::WeightMode weights = filtration::WeightMode::positive;
-  filtration::GridSpec grid;      // grid.max_density is the sweep's maximum density
-  Json engine_options = Json::object();  // per-engine sections, parsed by each engine
+  filtration::GridSpec grid;  // grid.max_density is the sweep's maximum density
+  std::optional<cliques::Options> cliques = cliques::Options{};  // nothing: "cliques": false
+  std::optional<homology::Options> homology;    // on when the options give a section
+  std::optional<curvature::Options> curvature;  // on when the options give a section
+  transitions::Options transitions;             // transitions.enabled = false turns it off
+
+  // Rules between engines (curvature needs every clique size, ...); ErrorKind::argument.
+  void validate() const;
 };
 
+const OptionSection& sweep_option_section();
+const OptionSection& grid_option_section();
 // Parses {"weights", "max_density", "grid", "cliques", "homology", "curvature",
-// "transitions"}; unknown keys are errors (documented in README: sweep options).
+// "transitions"}; unknown keys are errors, every engine section is parsed here.
 SweepOptions parse_sweep_options(const Json& options);
 
 struct SweepResult {
@@ -31,21 +46,22 @@ struct SweepResult {
   std::vector<std::string> names;
   filtration::Filtration filtration;
   std::vector<filtration::GridPoint> grid;
-  Json sections = Json::object();  // each engine's JSON section, keyed by engine name
-  // Curves as columns on the grid: density, threshold, edges, then each engine's columns.
-  std::vector<std::string> columns;
-  std::vector<std::vector<std::string>> rows;  // cells as text (exact integers stay exact)
+  SweepOptions options;  // as run (the engines' resolved options)
+  std::optional<cliques::GridCounts> cliques;
+  std::optional<homology::Result> homology;
+  std::size_t euler_poincare_checked = 0;  // grid points where chi = sum (-1)^k beta_k was checked
+  std::optional<curvature::OnGrid> curvature;
+  std::optional<transitions::Analysis> transitions;
+
+  // chi at each grid point as a double (NaN where the clique engine did not reach), for
+  // the transitions and the nulls; empty when the clique engine did not run.
+  std::vector<double> chi_curve() const;
+  std::vector<double> densities() const;
 };
 
 SweepResult run_sweep(const connectivity::Matrix& matrix, const SweepOptions& options, const ProgressFn& progress);
 
-// The whole result as one JSON document, and the grid curves as TSV.
-Json sweep_to_json(const SweepResult& result);
-std::string sweep_curves_tsv(const SweepResult& result);
-// The grid curves as {column: [numbers]} (null where not a number; integers beyond 2^53
-// are rounded here, the engine sections keep them exact).
-Json sweep_curves_json(const SweepResult& result);
-// A curve cell as a number: NaN unless the whole text is a number ("NA", "NaN", "").
-double curve_cell_value(const std::string& cell);
+// The transitions engine's input gathered from the typed results of a sweep.
+transitions::Curves transition_curves(const SweepResult& result);
 
 }  // namespace critplex::pipeline

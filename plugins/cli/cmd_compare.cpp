@@ -43,7 +43,7 @@ int run_compare(const Args& args) {
   for (const auto& t : doc["tests"]) {
     if (!t.contains("p_value")) continue;
     std::string groups = t["group_a"].get<std::string>() + " vs " + t["group_b"].get<std::string>();
-    std::printf("%-52s %-22s %10.4g %9.2f %10.4g %10.4g\n", t["summary"].get<std::string>().c_str(), groups.c_str(),
+    std::printf("%-52s %-22s %10.4g %9.2f %10.4g %10.4g\n", t.value("label", t["summary"].get<std::string>()).c_str(), groups.c_str(),
                 t["value"].get<double>(), t["hedges_g"].get<double>(), t["p_value"].get<double>(),
                 t["p_adjusted"].get<double>());
   }

@@ -15,6 +15,7 @@
 #include "base/error.hpp"
 #include "cliques/counts.hpp"
 #include "filtration/filtration.hpp"
+#include "output/sweep.hpp"
 #include "homology/persistence.hpp"
 
 using namespace critplex;
@@ -266,7 +267,11 @@ TEST_CASE("Betti curves on a grid with ties count bars alive after whole tie gro
   // The dying components end at ranks 1..3, all in the one tie group: density 4/6.
   for (const auto& b : r.bars)
     if (b.dimension == 0 && !b.essential) CHECK(homology::rank_density(f, b.death_rank) == Approx(4.0 / 6.0));
-  const auto json = homology::to_json(r, f);
+  pipeline::SweepResult sweep;
+  sweep.filtration = f;
+  sweep.grid = grid;
+  sweep.homology = r;
+  const auto json = output::homology_section(sweep);
   CHECK(json["bar_counts"] == Json::array({4, 1, 0}));
   CHECK(json["betti"][1] == Json::array({0, 1}));
 }
@@ -285,11 +290,12 @@ TEST_CASE("a work budget stops the run and says what is complete", "[homology][b
   // What it does report agrees with the full run.
   for (std::size_t g = 0; g < cut.betti.size(); ++g)
     for (std::size_t k = 0; k < cut.betti[g].size(); ++k) CHECK(cut.betti[g][k] == full.betti[g][k]);
-  std::vector<std::string> columns;
-  std::vector<std::vector<std::string>> rows(cut.betti.size());
-  homology::add_columns(cut, columns, rows);
-  CHECK(columns.back() == "betti_3");
-  CHECK(rows.back().back() == "NA");
+  pipeline::SweepResult sweep;
+  sweep.grid.resize(cut.betti.size());
+  sweep.homology = cut;
+  const auto columns = output::curve_columns(sweep);
+  CHECK(columns.back().name == "betti_3");
+  CHECK(!columns.back().exact.back().has_value());  // written as n/a
 }
 
 TEST_CASE("the progress callback can cancel", "[homology][progress]") {

@@ -6,7 +6,8 @@
 
 #include "base/error.hpp"
 #include "transitions/random_graph.hpp"
-#include "transitions/report.hpp"
+#include "output/sweep.hpp"
+#include "transitions/analysis.hpp"
 #include "transitions/transitions.hpp"
 
 using namespace critplex;
@@ -124,12 +125,15 @@ TEST_CASE("transitions record and TSV", "[transitions]") {
   Curves cv;
   cv.density = {0.0, 0.1, 0.2, 0.3};
   cv.chi = {20, 5, -3, -8};
-  cv.chi_exact = {"20", "5", "-3", "-8"};
+  cv.chi_exact = {20, 5, -3, -8};
   cv.kappa_mean = {1.0, 0.25, -0.15, -0.4};
   cv.kappa_sd = cv.kappa_skewness = cv.kappa_kurtosis = cv.forman_mean = {0, 0, 0, 0};
   Options o;
   o.scan_points = 200;
-  Json j = analyse(cv, 20, o);
+  const Analysis a = analyse(cv, 20, o);
+  REQUIRE(a.chi_zeros().size() == 1);
+  CHECK(a.first_chi_zero() == Approx(0.1 + 0.1 * 5.0 / 8.0));
+  const Json j = output::transitions_section(a, cv.density);
   REQUIRE(j["chi_zeros"].size() == 1);
   const double rho = 0.1 + 0.1 * 5.0 / 8.0;
   CHECK(j["first_chi_zero"].get<double>() == Approx(rho));
@@ -137,10 +141,10 @@ TEST_CASE("transitions record and TSV", "[transitions]") {
   // kappa_mean = chi / N here, so its interpolated value at the zero is 0.
   CHECK(j["summary"][0]["curvature"]["kappa_mean"].get<double>() == Approx(0.0).margin(1e-15));
   CHECK(j["random_graph"]["chi_zeros"].size() >= 1);
-  std::string tsv = summary_tsv(j);
+  std::string tsv = output::transitions_tsv(a, cv.density);
   CHECK(tsv.rfind("kind\tk\tdensity", 0) == 0);
   CHECK(tsv.find("\nchi_zero\t") != std::string::npos);
   CHECK(tsv.find("\nrandom_chi_zero\t") != std::string::npos);
-  CHECK_THROWS_AS(parse_options(Json{{"scan_points", 3}}, "t"), Error);
-  CHECK_THROWS_AS(parse_options(Json{{"unknown", 3}}, "t"), Error);
+  CHECK_THROWS_AS(parse_options(Json{{"scan_points", 3}}, "t", ""), Error);
+  CHECK_THROWS_AS(parse_options(Json{{"unknown", 3}}, "t", ""), Error);
 }

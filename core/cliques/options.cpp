@@ -1,0 +1,45 @@
+#include "base/error.hpp"
+#include "cliques/counts.hpp"
+
+namespace critplex::cliques {
+
+const OptionSection& option_section() {
+  static const OptionSection section{
+      "sweep.cliques",
+      "sweep options",
+      "cpx_sweep_run, critplex sweep --options, the subject config's \"sweep\"",
+      "Exact clique counts and the Euler characteristic. On by default; false turns the engine off.",
+      {{.key = "max_dimension", .type = "integer", .default_value = -1, .default_note = "-1 = none", .min = -1,
+        .max = 1000000,
+        .meaning = "count only cliques of dimension <= K; counts up to K stay exact, chi is exact only until the "
+                   "first larger clique forms"},
+       {.key = "max_work", .type = "number", .default_value = 0.0, .default_note = "0 = none", .min = 0,
+        .meaning = "stop after about this many nodes of the counting tree; everything up to the last complete "
+                   "grid point is returned"},
+       {.key = "threads", .type = "integer", .default_value = 0, .default_note = "0 = every core", .min = 0,
+        .max = 4096, .meaning = "worker threads; results are identical for any value"},
+       {.key = "chi_only", .type = "boolean", .default_value = false,
+        .meaning = "only chi (and Cl_0, Cl_1): much faster, since chi needs only part of the counting tree"},
+       {.key = "node_counts", .type = "boolean", .default_value = false,
+        .meaning = "also Cl_{i,k}, the k-simplices containing region i, per grid point (JSON only)"}}};
+  return section;
+}
+
+Options parse_options(const Json& section) {
+  Options o;
+  if (section.is_null()) return o;
+  if (!section.is_object()) fail(ErrorKind::argument, "sweep options: \"cliques\" must be an object (or false)");
+  SchemaReader r(section, option_section());
+  o.max_dimension = static_cast<int>(r.integer("max_dimension"));
+  o.max_work = r.number("max_work");
+  o.threads = static_cast<int>(r.integer("threads"));
+  o.node_counts = r.boolean("node_counts");
+  o.chi_only = r.boolean("chi_only");
+  r.finish();
+  if (o.chi_only && o.node_counts)
+    fail(ErrorKind::argument,
+         "sweep options: cliques.chi_only and cliques.node_counts exclude each other (node counts need every clique size)");
+  return o;
+}
+
+}  // namespace critplex::cliques

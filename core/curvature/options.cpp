@@ -1,0 +1,60 @@
+#include "base/error.hpp"
+#include "curvature/on_grid.hpp"
+
+namespace critplex::curvature {
+
+const OptionSection& option_section() {
+  static const OptionSection section{
+      "sweep.curvature",
+      "sweep options",
+      "cpx_sweep_run, critplex sweep --options (and --curvature), the subject config's \"sweep\"",
+      "Gauss-Bonnet node curvature and Forman-Ricci edge curvature on the grid. On when the section is given "
+      "(an object, or true).",
+      {{.key = "node_curves", .type = "boolean", .default_value = true,
+        .meaning = "per node kappa_i(rho) in the JSON section (node_kappa)"},
+       {.key = "forman", .type = "boolean", .default_value = true,
+        .meaning = "Forman-Ricci edge curvature, augmented with triangles, unweighted"},
+       {.key = "quantiles", .type = "numbers", .default_value = Json::array({0.05, 0.25, 0.5, 0.75, 0.95}), .min = 0,
+        .max = 1, .meaning = "quantile levels of the node curvature distribution (columns kappa_q05, ...)"},
+       {.key = "bins", .type = "\"auto\" or integer", .default_value = "auto", .min = 1, .max = 100000,
+        .meaning = "histogram bins: \"auto\" = Freedman-Diaconis on the values pooled over the grid, or a fixed "
+                   "number"},
+       {.key = "max_bins", .type = "integer", .default_value = 60, .min = 1, .max = 100000,
+        .meaning = "cap on the number of automatic bins"},
+       {.key = "range", .type = "numbers", .meaning = "[lo, hi] of the node curvature histogram (fixed bins only)"},
+       {.key = "forman_range", .type = "numbers", .meaning = "[lo, hi] of the Forman-Ricci histogram (fixed bins only)"}}};
+  return section;
+}
+
+Options parse_options(const Json& section) {
+  Options o;
+  if (section.is_null() || (section.is_boolean() && section.get<bool>())) return o;
+  if (!section.is_object()) fail(ErrorKind::argument, "sweep options: \"curvature\" must be an object (or true)");
+  SchemaReader r(section, option_section());
+  o.node_curves = r.boolean("node_curves");
+  o.forman = r.boolean("forman");
+  o.quantile_levels = r.numbers("quantiles");
+  if (const Json* b = r.raw("bins")) {
+    const OptionKey& e = option_section().entry("bins");
+    if (b->is_string() && b->get<std::string>() == "auto") {
+      o.auto_bins = true;
+    } else if (b->is_number_integer() && b->get<long long>() >= *e.min && b->get<long long>() <= *e.max) {
+      o.auto_bins = false;
+      o.bins = static_cast<std::size_t>(b->get<long long>());
+    } else {
+      r.bad("bins", "\"auto\" or an integer in " + range_text(e));
+    }
+  }
+  o.max_bins = static_cast<std::size_t>(r.integer("max_bins"));
+  o.node_range = r.numbers("range");
+  o.forman_range = r.numbers("forman_range");
+  r.finish();
+  for (const auto* range : {&o.node_range, &o.forman_range})
+    if (!range->empty() && (range->size() != 2 || !((*range)[0] < (*range)[1])))
+      fail(ErrorKind::argument, r.where() + ": \"curvature.range\" and \"curvature.forman_range\" must be [lo, hi] with lo < hi");
+  if (o.auto_bins && (!o.node_range.empty() || !o.forman_range.empty()))
+    fail(ErrorKind::argument, r.where() + ": \"curvature.range\" needs a fixed number of bins (\"curvature.bins\": integer)");
+  return o;
+}
+
+}  // namespace critplex::curvature

@@ -1,0 +1,33 @@
+#include "base/error.hpp"
+#include "homology/persistence.hpp"
+
+namespace critplex::homology {
+
+const OptionSection& option_section() {
+  static const OptionSection section{
+      "sweep.homology",
+      "sweep options",
+      "cpx_sweep_run, critplex sweep --options (and --betti K), the subject config's \"sweep\"",
+      "Persistence bars and Betti curves of the clique complex over Z/2. On when the section is given.",
+      {{.key = "max_dimension", .type = "integer", .default_value = 2, .min = 0, .max = 30,
+        .meaning = "bars in dimensions 0..K (simplices of K + 1 are enumerated)"},
+       {.key = "max_work", .type = "number", .default_value = 0.0, .default_note = "0 = none", .min = 0,
+        .meaning = "budget in cofacets visited; dimensions finished before the stop stay complete"},
+       {.key = "threads", .type = "integer", .default_value = 0, .default_note = "0 = every core", .min = 0,
+        .max = 1024, .meaning = "threads for enumerating simplices; results do not depend on it"}}};
+  return section;
+}
+
+Options parse_options(const Json& section) {
+  const Json object = section.is_null() || (section.is_boolean() && section.get<bool>()) ? Json::object() : section;
+  if (!object.is_object()) fail(ErrorKind::argument, "sweep options: \"homology\" must be an object (or true)");
+  SchemaReader r(object, option_section());
+  Options o;
+  o.max_dimension = static_cast<int>(r.integer("max_dimension"));
+  o.max_work = r.number("max_work");
+  o.threads = static_cast<int>(r.integer("threads"));
+  r.finish();
+  return o;
+}
+
+}  // namespace critplex::homology

@@ -1,0 +1,120 @@
+// The cohort report: a comparison mapped onto core/report's value types.
+#include <cmath>
+#include <cstdio>
+#include <limits>
+
+#include "base/error.hpp"
+#include "output/subject_record.hpp"
+#include "pipeline/compare.hpp"
+#include "report/report.hpp"
+
+namespace critplex::pipeline {
+
+namespace {
+
+const double nan_value = std::numeric_limits<double>::quiet_NaN();
+
+report::Band band_of(const cohort::Band& b) { return {b.mean, b.lower, b.upper}; }
+
+// log10 |chi| of the mean curve; the band maps through |.| and is open below where it
+// straddles zero (the mean of log|chi| would be undefined at each zero).
+report::Band log_abs_band(const cohort::Band& b) {
+  report::Band out;
+  for (std::size_t p = 0; p < b.mean.size(); ++p) {
+    const double lo = b.lower[p], hi = b.upper[p];
+    const bool straddles = lo <= 0.0 && hi >= 0.0;
+    auto finite_or_nan = [](double x) { return std::isfinite(x) ? x : nan_value; };
+    out.mean.push_back(finite_or_nan(std::log10(std::fabs(b.mean[p]))));
+    out.lower.push_back(straddles ? nan_value : finite_or_nan(std::log10(std::min(std::fabs(lo), std::fabs(hi)))));
+    out.upper.push_back(finite_or_nan(std::log10(std::max(std::fabs(lo), std::fabs(hi)))));
+  }
+  return out;
+}
+
+std::string method_of(const cohort::PermutationResult& r, std::uint64_t seed) {
+  return r.exact ? "exact, " + std::to_string(r.null_size) + " relabellings"
+                 : "Monte Carlo, " + std::to_string(r.null_size) + " relabellings, seed " + std::to_string(seed);
+}
+
+}  // namespace
+
+std::string report_html(const Comparison& c, const std::string& created) {
+  report::ReportInput in;
+  in.title = "Topology of functional networks: group comparison";
+  in.software = std::string("critplex ") + CRITPLEX_VERSION_STRING;
+  in.created = created;
+  {
+    Json options{{"band", c.options.band},           {"groups", c.options.groups},
+                 {"statistic", c.options.statistic}, {"exact_limit", c.options.exact_limit},
+                 {"resamples", c.options.resamples}, {"seed", c.options.seed},
+                 {"confidence", c.options.confidence}, {"covariates", c.options.covariates},
+                 {"cluster_curves", c.options.cluster_curves}};
+    in.options_json = options.dump(1);
+  }
+  in.facts.push_back({"regions (nodes)", std::to_string(c.regions)});
+  for (const auto& g : c.groups) {
+    report::GroupResults gr;
+    gr.name = g.name;
+    gr.subjects = g.subjects;
+    gr.density = c.density;
+    const auto chi = g.curves.find("chi");
+    if (chi == g.curves.end()) fail(ErrorKind::data, "comparison: group \"" + g.name + "\" has no chi curve");
+    gr.chi = band_of(chi->second);
+    gr.log_abs_chi = log_abs_band(chi->second);
+    for (int k = 0; g.curves.count("betti_" + std::to_string(k)); ++k)
+      gr.betti.push_back(band_of(g.curves.at("betti_" + std::to_string(k))));
+    const auto first = g.summaries.find("first_chi_zero");
+    gr.first_transition = first != g.summaries.end() ? first->second : std::vector<double>(g.subjects.size(), nan_value);
+    if (const auto z = g.summaries.find("first_chi_zero_null_z"); z != g.summaries.end()) gr.transition_z = z->second;
+    gr.curvature_at_transition = g.curvature_at_transition;
+    in.groups.push_back(std::move(gr));
+  }
+  if (c.null_baseline) {
+    report::NullBaseline nb;
+    nb.label = c.null_baseline->label;
+    nb.density = c.null_baseline->density;
+    nb.chi = c.null_baseline->chi;
+    for (double x : nb.chi) nb.log_abs_chi.push_back(std::log10(std::fabs(x)));
+    in.null_baseline = nb;
+    in.facts.push_back({"null baseline", nb.label});
+  }
+  for (const auto& t : c.tests) {
+    if (!t.row.tested) continue;
+    const cohort::PermutationResult& r = t.row.result;
+    report::TestRow row;
+    row.summary = output::summary_label(t.row.summary) + " (" + t.group_a + " vs " + t.group_b + ")";
+    row.statistic = c.options.statistic;
+    row.value = r.statistic;
+    row.hedges_g = r.effect.hedges_g;
+    row.p_value = r.p_value;
+    row.p_adjusted = t.row.p_adjusted;
+    row.method = method_of(r, c.options.seed);
+    if (t.row.summary == "first_chi_zero" && in.transition_test_note.empty()) {
+      char buf[256];
+      std::snprintf(buf, sizeof buf, "%s vs %s: difference in means %.4f, Hedges g %.2f, permutation p = %.4g (%s)",
+                    t.group_a.c_str(), t.group_b.c_str(), row.value, row.hedges_g, row.p_value, row.method.c_str());
+      in.transition_test_note = buf;
+    }
+    in.tests.push_back(std::move(row));
+  }
+  for (const auto& cl : c.clusters) {
+    if (!cl.result) continue;
+    for (const auto& k : cl.result->clusters) {
+      report::TestRow row;
+      char name[200];
+      std::snprintf(name, sizeof name, "%s curve, densities %.3f-%.3f (%s vs %s)", cl.curve.c_str(),
+                    cl.density[k.first], cl.density[k.last], cl.group_a.c_str(), cl.group_b.c_str());
+      row.summary = name;
+      row.statistic = "cluster mass (sum of t)";
+      row.value = k.mass;
+      row.hedges_g = nan_value;
+      row.p_value = k.p_value;
+      row.p_adjusted = nan_value;  // cluster p-values are already corrected along the axis
+      row.method = std::string("cluster permutation, ") + (cl.result->exact ? "exact" : "Monte Carlo");
+      in.tests.push_back(std::move(row));
+    }
+  }
+  return report::build_report(in);
+}
+
+}  // namespace critplex::pipeline
