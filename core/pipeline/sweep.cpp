@@ -235,7 +235,8 @@ double curve_cell_value(const std::string& cell) {
   if (cell.empty()) return std::nan("");
   char* end = nullptr;
   const double x = std::strtod(cell.c_str(), &end);
-  return end == cell.c_str() + cell.size() && std::isfinite(x) ? x : std::nan("");
+  // Infinities are values (log|chi| at chi = 0 is -Infinity), not missing.
+  return end == cell.c_str() + cell.size() ? x : std::nan("");
 }
 
 Json sweep_curves_json(const SweepResult& result) {
