@@ -144,9 +144,15 @@ function take_string(p::Ptr{Cchar})
     end
 end
 
+# Options as JSON text: NamedTuples and Dicts (nested too) become objects with string keys.
+jsonable(x) = x
+jsonable(x::NamedTuple) = Dict{String,Any}(string(k) => jsonable(v) for (k, v) in pairs(x))
+jsonable(x::AbstractDict) = Dict{String,Any}(string(k) => jsonable(v) for (k, v) in x)
+jsonable(x::Union{AbstractVector,Tuple}) = Any[jsonable(v) for v in x]
+
 options_text(options) = options === nothing ? "" :
     options isa AbstractString ? String(options) :
-    isempty(options) ? "" : JSON.json(options)
+    isempty(options) ? "" : JSON.json(jsonable(options))
 
 """
     critplex_version() -> String
