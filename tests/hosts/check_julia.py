@@ -163,8 +163,8 @@ def self_test_broken_copies(header_text, julia_dir):
     source = open(os.path.join(julia_dir, "src", "Critplex.jl")).read()
     breakages = {
         "a size_t declared as Cint": ("(Ptr{Cvoid}, Ptr{Float64}, Csize_t, Cint),", "(Ptr{Cvoid}, Ptr{Float64}, Cint, Cint),"),
-        "an argument dropped": ("(Ptr{Cvoid}, Cstring, Ptr{Ptr{Cvoid}}),\n                    series, options_text(options), matrix)",
-                                "(Ptr{Cvoid}, Ptr{Ptr{Cvoid}}),\n                    series, options_text(options), matrix)"),
+        "an argument dropped": ("ccall(fn(:cpx_connect), Cint, (Ptr{Cvoid}, Cstring, Ptr{Ptr{Cvoid}}),",
+                                "ccall(fn(:cpx_connect), Cint, (Ptr{Cvoid}, Ptr{Ptr{Cvoid}}),"),
         "a wrong result type": ("ccall(fn(:cpx_abi_version), Cint, ())", "ccall(fn(:cpx_abi_version), Csize_t, ())"),
         "a string where a handle goes": ("ccall(fn(:cpx_sweep_free), Cvoid, (Ptr{Cvoid},)",
                                          "ccall(fn(:cpx_sweep_free), Cvoid, (Cstring,)"),

@@ -208,6 +208,16 @@ function _series(x::AbstractMatrix{<:Real}, names)
     return series[]
 end
 
+# Calls f(series) on a series handle made from x, and frees it afterwards.
+function _with_series(f, x, names)
+    series = _series(x, names)
+    try
+        return f(series)
+    finally
+        ccall(fn(:cpx_series_free), Cvoid, (Ptr{Cvoid},), series)
+    end
+end
+
 function _matrix_values(matrix::Ptr{Cvoid})
     n = Ref{Csize_t}(0)
     check(ccall(fn(:cpx_matrix_size), Cint, (Ptr{Cvoid}, Ptr{Csize_t}), matrix, n))
@@ -230,13 +240,10 @@ Connectivity matrix of time series `x` (time points down the rows, regions acros
 estimator's report (shrinkage intensity, frames used, ...).
 """
 function connect(x::AbstractMatrix{<:Real}; names = nothing, options = nothing)
-    series = _series(x, names)
     matrix = Ref{Ptr{Cvoid}}(C_NULL)
-    try
+    _with_series(x, names) do series
         check(ccall(fn(:cpx_connect), Cint, (Ptr{Cvoid}, Cstring, Ptr{Ptr{Cvoid}}),
                     series, options_text(options), matrix))
-    finally
-        ccall(fn(:cpx_series_free), Cvoid, (Ptr{Cvoid},), series)
     end
     try
         return _matrix_values(matrix[])
@@ -252,13 +259,10 @@ One connectivity matrix per band named in the `bands` option, in order of increa
 low band edge.
 """
 function connect_bands(x::AbstractMatrix{<:Real}; names = nothing, options = nothing)
-    series = _series(x, names)
     set = Ref{Ptr{Cvoid}}(C_NULL)
-    try
+    _with_series(x, names) do series
         check(ccall(fn(:cpx_connect_bands), Cint, (Ptr{Cvoid}, Cstring, Ptr{Ptr{Cvoid}}),
                     series, options_text(options), set))
-    finally
-        ccall(fn(:cpx_series_free), Cvoid, (Ptr{Cvoid},), series)
     end
     try
         count = Ref{Csize_t}(0)
