@@ -141,6 +141,14 @@ class Arrays(unittest.TestCase):
         self.assertEqual(list(curves), s.columns)
         self.assertIn("7 grid points", repr(s))
 
+    def test_progress_callback_cancels(self):
+        fractions = []
+        with self.assertRaises(critplex.CritplexError) as e:
+            critplex.sweep(np.corrcoef(self.data, rowvar=False), grid="every",
+                           progress=lambda f: fractions.append(f) or True)
+        self.assertEqual(e.exception.status, "CPX_ERR_CANCELLED")
+        self.assertTrue(fractions and all(0 <= f <= 1 for f in fractions))
+
     def test_pandas_round_trip_keeps_region_names(self):
         import pandas as pd
         frame = pd.read_csv(NITIME_CSV)
