@@ -1,7 +1,13 @@
-# critplex from Julia through ccall (plugins/julia). Set CRITPLEX_LIBRARY first.
-include(joinpath(@__DIR__, "..", "..", "plugins", "julia", "src", "Critplex.jl"))
-using .Critplex
+# critplex from Julia (plugins/julia). Once: using Pkg; Pkg.develop(path = "PREFIX/share/critplex/julia")
+using Critplex
+dir = mktempdir()   # an invented study (README: the demo study)
+study = simulate_study(dir; options = Dict("regions" => 20, "frames" => 200, "groups" =>
+    [Dict("name" => "rested", "subjects" => 4), Dict("name" => "deprived", "subjects" => 4)]))
 x = randn(300, 20)        # replace with your time points x regions matrix
-r = Critplex.connect(x)
-curves_tsv, json = Critplex.sweep(r; options = "{\"max_density\": 0.4, \"grid\": 0.05}")
-println(first(split(curves_tsv, "\n"), 4))
+r = connect(x; options = (method = "ledoit_wolf",))
+s = sweep(r.values; options = (max_density = 0.4, grid = 0.05))
+println(s.curves["chi"])
+run_cohort(study["manifest"], read(study["config"], String), joinpath(dir, "results"))
+cmp = compare(joinpath(dir, "results"))
+println(cmp.tests["summary"], cmp.tests["p_value"])
+println(report(joinpath(dir, "results")))

@@ -1,0 +1,4 @@
+library(testthat)
+library(critplex)
+
+test_check("critplex")
