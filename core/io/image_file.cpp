@@ -108,9 +108,10 @@ ImageFile::ImageFile(const std::string& path, MemoryBudget& budget) : path_(path
   struct stat st {};
   const bool exists = ::stat(path.c_str(), &st) == 0;
   if (exists && S_ISDIR(st.st_mode)) fail(ErrorKind::io, "'" + path + "' is a folder, not an image file");
-  file_ = gzopen(path.c_str(), "rb");
+  owner_.reset(gzopen(path.c_str(), "rb"));
+  file_ = owner_.get();
   if (!file_) fail(ErrorKind::io, "cannot open '" + path + "'" + (exists ? "" : " (no such file)"));
-  gzbuffer(file_, 1u << 17);
+  gzbuffer(file_, 1u << 16);
   read_header();
   // gzdirect says, after the first read, whether the file is plain (so its size is real).
   const bool size_known = exists && S_ISREG(st.st_mode) && gzdirect(file_) == 1;
@@ -128,10 +129,6 @@ ImageFile::ImageFile(const std::string& path, MemoryBudget& budget) : path_(path
   }
   read_extensions(budget);
   raw_.resize(chunk_values * header_.item_bytes);
-}
-
-ImageFile::~ImageFile() {
-  if (file_) gzclose(file_);
 }
 
 void ImageFile::bad(const std::string& field, const std::string& problem) const {

@@ -21,6 +21,7 @@
 #include <cstdint>
 #include <functional>
 #include <map>
+#include <memory>
 #include <string>
 #include <vector>
 
@@ -67,14 +68,12 @@ struct ImageHeader {
 
 class ImageFile {
  public:
-  static constexpr std::size_t chunk_values = 16384;  // values per read_values call at most
+  static constexpr std::size_t chunk_values = 4096;   // values per read_values call at most
 
   // Opens `path`, reads and checks the header and the extensions, and stops at the first
   // stored value. The CIFTI extension's text is charged to `budget`.
   ImageFile(const std::string& path, MemoryBudget& budget);
-  ~ImageFile();
-  ImageFile(const ImageFile&) = delete;
-  ImageFile& operator=(const ImageFile&) = delete;
+  ImageFile(ImageFile&&) = delete;
 
   const std::string& path() const { return path_; }
   const ImageHeader& header() const { return header_; }
@@ -96,7 +95,11 @@ class ImageFile {
   void read_extensions(MemoryBudget& budget);
   [[noreturn]] void bad(const std::string& field, const std::string& problem) const;
 
+  struct Close {
+    void operator()(gzFile f) const { gzclose(f); }
+  };
   std::string path_;
+  std::unique_ptr<gzFile_s, Close> owner_;  // closes the file also when the constructor throws
   gzFile file_ = nullptr;
   ImageHeader header_;
   std::string cifti_;
