@@ -181,7 +181,7 @@ class HeaderReader {
     for (const XmlElement* m : e.children_named("BrainModel")) {
       CiftiBrainModels::Model model;
       model.offset = integer(*m, "IndexOffset", 0, max_count);
-      model.count = integer(*m, "IndexCount", 1, max_count);
+      model.count = integer(*m, "IndexCount", 1, max_count / 4);  // three numbers per voxel stay below 2^62
       if (model.offset != next)
         bad(*m, "IndexOffset " + std::to_string(model.offset) + " does not follow the models before it (expected " +
                     std::to_string(next) + ")");
@@ -189,18 +189,25 @@ class HeaderReader {
       if (!model.structure.starts_with("CIFTI_STRUCTURE_"))
         bad(*m, "BrainStructure = " + excerpt(model.structure) + " does not start with CIFTI_STRUCTURE_");
       const std::string& type = text(*m, "ModelType");
+      const bool surface = type == "CIFTI_MODEL_TYPE_SURFACE";
+      if (!surface && type != "CIFTI_MODEL_TYPE_VOXELS")
+        bad(*m, "ModelType = " + excerpt(type) + " is not CIFTI_MODEL_TYPE_SURFACE or CIFTI_MODEL_TYPE_VOXELS");
+      if (!surface && !b.has_volume) bad(*m, "voxels need a <Volume> in the same MatrixIndicesMap");
+      // The list must hold IndexCount places before anything is sized from IndexCount.
+      const XmlElement& list = only_child(*m, surface ? "VertexIndices" : "VoxelIndicesIJK");
+      const std::int64_t numbers = (surface ? 1 : 3) * model.count;
+      if (token_count(list) != numbers)
+        bad(list, "holds " + std::to_string(token_count(list)) + " numbers, " + std::to_string(numbers) + " expected (IndexCount " +
+                      std::to_string(model.count) + (surface ? ")" : ", three per voxel)"));
       budget_.take(static_cast<std::uint64_t>(model.count) * 8, "'" + path_ + "': the brainordinates of the CIFTI header");
       model.places.reserve(static_cast<std::size_t>(model.count));
-      if (type == "CIFTI_MODEL_TYPE_SURFACE") {
-        model.surface = true;
+      model.surface = surface;
+      if (surface) {
         model.surface_vertices = integer(*m, "SurfaceNumberOfVertices", 1, max_vertices);
-        each_index(only_child(*m, "VertexIndices"), model.count, [&](std::int64_t) { return model.surface_vertices; },
+        each_index(list, model.count, [&](std::int64_t) { return model.surface_vertices; },
                    [&](std::int64_t, std::int64_t x) { model.places.push_back(x); });
-      } else if (type == "CIFTI_MODEL_TYPE_VOXELS") {
-        if (!b.has_volume) bad(*m, "voxels need a <Volume> in the same MatrixIndicesMap");
-        voxels(only_child(*m, "VoxelIndicesIJK"), b.volume, model.count, &model.places);
       } else {
-        bad(*m, "ModelType = " + excerpt(type) + " is not CIFTI_MODEL_TYPE_SURFACE or CIFTI_MODEL_TYPE_VOXELS");
+        voxels(list, b.volume, model.count, &model.places);
       }
       next = model.offset + model.count;
       if (next > max_count) bad(*m, "the brainordinates pass 2^62");
@@ -234,7 +241,7 @@ class HeaderReader {
       }
       for (const XmlElement* v : p->children_named("VoxelIndicesIJK")) {
         if (volumes.empty()) bad(*v, "voxels need a <Volume> in the same MatrixIndicesMap");
-        if (voxel_count(*v) % 3 != 0) bad(*v, "holds a number of values that is not a multiple of 3 (i j k per voxel)");
+        if (token_count(*v) % 3 != 0) bad(*v, "holds a number of values that is not a multiple of 3 (i j k per voxel)");
         voxels(*v, vol, -1, nullptr);
       }
       a.parcel_names.push_back(name);
@@ -243,7 +250,8 @@ class HeaderReader {
     a.size = static_cast<std::int64_t>(a.parcel_names.size());
   }
 
-  std::int64_t voxel_count(const XmlElement& e) const {
+  // Whitespace-separated items in e's text.
+  static std::int64_t token_count(const XmlElement& e) {
     std::int64_t n = 0;
     bool in_token = false;
     for (char c : e.text) {

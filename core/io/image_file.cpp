@@ -123,7 +123,7 @@ ImageFile::ImageFile(const std::string& path, MemoryBudget& budget) : path_(path
   if (size_known && static_cast<std::uint64_t>(header_.vox_offset + data_bytes) > file_size) {
     std::string shape;
     for (int k = 1; k <= header_.dim[0]; ++k) shape += (k > 1 ? "x" : "") + std::to_string(header_.dim[k]);
-    bad("dim", "the header declares " + shape + " values of " + std::to_string(header_.item_bytes) + " bytes (" +
+    bad("dim and vox_offset", "the header declares " + shape + " values of " + std::to_string(header_.item_bytes) + " bytes (" +
                    std::to_string(data_bytes) + " bytes from byte " + std::to_string(header_.vox_offset) +
                    "), but the file has " + std::to_string(file_size) + " bytes");
   }
@@ -132,7 +132,8 @@ ImageFile::ImageFile(const std::string& path, MemoryBudget& budget) : path_(path
 }
 
 void ImageFile::bad(const std::string& field, const std::string& problem) const {
-  fail(ErrorKind::parse, "'" + path_ + "': NIfTI-" + std::to_string(header_.version) + " header field " + field + ": " + problem);
+  fail(ErrorKind::parse, "'" + path_ + "': NIfTI-" + std::to_string(header_.version) + " header field" +
+                             (field.find(" and ") == std::string::npos ? " " : "s ") + field + ": " + problem);
 }
 
 void ImageFile::read_bytes(void* out, std::size_t bytes, const std::string& what) {

@@ -90,14 +90,14 @@ class ImageRefusals(unittest.TestCase):
         a, i, i2 = self.atlas_bytes, self.image_bytes, self.image2_bytes
         huge_grid = patch(a, 40, "<8h", 3, 32767, 32767, 32767, 1, 1, 1, 1)[:480]  # a 480-byte label image
         cases = [
-            ("grid.nii", huge_grid, False, True, ["grid.nii", "header field dim", "32767x32767x32767"]),
+            ("grid.nii", huge_grid, False, True, ["grid.nii", "header fields dim and vox_offset", "32767x32767x32767"]),
             # compressed, the sizes cannot be checked up front: the reader holds no more than it decodes
             ("grid.nii.gz", huge_grid, True, True, ["grid.nii.gz", "the file ends inside the labels"]),
             ("offset.nii", patch(a, 108, "<f", 1e30), False, True, ["offset.nii", "vox_offset", "1.0000000150474662e+30"]),
             ("offset2.nii", patch(i2, 168, "<q", 1 << 40), False, False, ["offset2.nii", "from byte 1099511627776), but the file has"]),
             ("esize.nii", patch(self.atlas_ext_bytes, 352, "<i", 0x7FFFFFF0), False, True,
              ["esize.nii", "extension 1 esize: 2147483632"]),
-            ("frames.nii", patch(i, 40, "<8h", 4, 4, 4, 3, 32767, 32767, 1, 1), False, False, ["frames.nii", "header field dim"]),
+            ("frames.nii", patch(i, 40, "<8h", 4, 4, 4, 3, 32767, 32767, 1, 1), False, False, ["frames.nii", "header fields dim and vox_offset"]),
             # NIfTI-2 gzip claiming 2^40 frames: the regional series would pass the budget
             ("frames2.nii.gz", patch(i2, 16, "<8q", 4, 4, 4, 3, 1 << 40, 1, 1, 1), True, False,
              ["frames2.nii.gz", "past the image memory budget of 1024 MiB"]),

@@ -208,7 +208,7 @@ TEST_CASE("NIfTI headers that declare more than the file holds are refused befor
     Image l = label_image(voxel_labels);
     l.dims = {32767, 32767, 32767};
     l.data.resize(480 - 352);
-    cases.push_back({"huge_grid.nii", l, true, "header field dim: the header declares 32767x32767x32767 values"});
+    cases.push_back({"huge_grid.nii", l, true, "header fields dim and vox_offset: the header declares 32767x32767x32767 values"});
   }
   {  // NIfTI-2 dimensions whose product overflows 64 bits
     Image l = label_image(voxel_labels, 4, 2);
