@@ -1,7 +1,14 @@
-// NIfTI-1 images (.nii, .nii.gz): a 4-D series and a 3-D integer label image on the same
-// grid give one regional mean time series per label. Single-file NIfTI-1 ("n+1") only.
+// Regional time series from images: NIfTI-1 and NIfTI-2 (.nii, .nii.gz) 4-D series with a
+// 3-D integer label image on the same grid, CIFTI-2 dense series (.dtseries.nii) with a
+// dense label file (.dlabel.nii, or a dense file of integer labels such as a .dscalar.nii),
+// and CIFTI-2 parcellated series (.ptseries.nii), whose parcels are the regions.
+// Single-file images only. Headers are checked before anything is allocated (see
+// image_file.hpp for the size rules and the memory budget).
 #pragma once
 
+#include <cstdint>
+#include <limits>
+#include <map>
 #include <string>
 
 #include "series/series.hpp"
@@ -9,15 +16,25 @@
 namespace critplex::io {
 
 struct ImageOptions {
-  std::string label_names;   // TSV of label index and name ("" = names "label-<index>")
-  double sampling_interval = std::numeric_limits<double>::quiet_NaN();  // overrides the header
+  std::string label_names;   // TSV of label index and name ("" = names from the atlas, else "label-<index>")
+  double sampling_interval = std::numeric_limits<double>::quiet_NaN();  // overrides the file
+  std::string label_map;     // which map of a CIFTI label file: its name or 1-based number ("" = the only one)
+  std::uint64_t memory_budget = std::uint64_t{1} << 30;  // bytes the reader may hold (default_image_memory_budget)
 };
 
-// Regional means: for each label > 0 in ascending order, the mean over its voxels in every
-// volume. Sampling interval from pixdim[4] and its time unit unless given. Errors name the
-// file: unsupported datatype, not 4-D, mismatched grids, non-integer or negative labels,
-// labels listed in the table with no voxels, labels in the image missing from the table.
+// Regional means: for each label > 0 in ascending order, the mean over its voxels (or
+// brainordinates) in every frame; for a parcellated series, the parcels in file order
+// (labels_path must be empty). Sampling interval from pixdim[4] and its time unit (NIfTI)
+// or from SeriesStep x 10^SeriesExponent in SECOND (CIFTI), unless given. Errors name the
+// file and the field or element: unsupported datatypes, sizes that do not fit the file or
+// the budget, mismatched grids or brainordinates, labels that are not whole numbers from 0
+// to 2^53, labels listed in the table with no voxels, labels missing from the table.
 series::Series read_image_series(const std::string& image_path, const std::string& labels_path,
                                  const ImageOptions& options);
+
+// A TSV of label index and name (optional header row; a BIDS-style header names the
+// columns "index" and "name"). Indices are whole numbers from 1 to 2^53; names are
+// non-empty, unique UTF-8 without control characters.
+std::map<std::int64_t, std::string> read_label_table(const std::string& path);
 
 }  // namespace critplex::io

@@ -1,4 +1,4 @@
-// critplex connect INPUT --out MATRIX: time series (table or NIfTI image + labels) in,
+// critplex connect INPUT --out MATRIX: time series (table, NIfTI image + labels, CIFTI series) in,
 // one connectivity matrix per band out.
 #include <nlohmann/json.hpp>
 
@@ -26,7 +26,7 @@ bool is_directory(const std::string& path) {
 // suffix go, the BIDS entities stay.
 std::string input_stem(const std::string& input) {
   std::string name = input.substr(input.find_last_of('/') == std::string::npos ? 0 : input.find_last_of('/') + 1);
-  for (const char* ext : {".nii.gz", ".nii", ".tsv.gz", ".tsv", ".csv", ".npy", ".txt"})
+  for (const char* ext : {".dtseries.nii", ".ptseries.nii", ".nii.gz", ".nii", ".tsv.gz", ".tsv", ".csv", ".npy", ".txt"})
     if (ends_with(name, ext)) {
       name.resize(name.size() - std::string(ext).size());
       break;
@@ -72,13 +72,15 @@ int run_connect(const Args& args) {
   cpx_series* raw_series = nullptr;
   const bool image = ends_with(input, ".nii") || ends_with(input, ".nii.gz");
   if (args.has("labels") || image) {
+    // The library tells a parcellated CIFTI series (no labels) from images that need them.
     const auto labels = args.value("labels");
-    if (!labels) throw Failure("a NIfTI image needs --labels ATLAS (a 3-D integer label image on the same grid)", 2);
     nlohmann::json image_options = nlohmann::json::object();
     if (auto names = args.value("label-names")) image_options["label_names"] = *names;
-    check(cpx_series_read_image(input.c_str(), labels->c_str(), image_options.dump().c_str(), &raw_series));
+    if (auto map = args.value("label-map")) image_options["label_map"] = *map;
+    check(cpx_series_read_image(input.c_str(), labels ? labels->c_str() : nullptr, image_options.dump().c_str(), &raw_series));
   } else {
-    if (args.has("label-names")) throw Failure("--label-names goes with --labels and a NIfTI image", 2);
+    if (args.has("label-names")) throw Failure("--label-names goes with --labels and a NIfTI or CIFTI image", 2);
+    if (args.has("label-map")) throw Failure("--label-map goes with a CIFTI label file in --labels", 2);
     nlohmann::json read_options = nlohmann::json::object();
     if (auto f = args.value("input-format")) read_options["format"] = *f;
     if (args.has("no-header")) read_options["header"] = false;
@@ -138,8 +140,12 @@ const Registration registration{Command{
     "Estimate connectivity matrices from regional time series.",
     "INPUT holds time points down the rows and regions across the columns: TSV or CSV\n"
     "with a header row of region names, whitespace-separated text without header, or\n"
-    "NPY (float64/float32). Or INPUT is a 4-D NIfTI-1 image (.nii, .nii.gz) with\n"
-    "--labels: the series are the mean over each label's voxels.\n"
+    "NPY (float64/float32). Or INPUT is an image: a 4-D NIfTI-1 or NIfTI-2 image\n"
+    "(.nii, .nii.gz) with --labels, a 3-D label image on the same grid; a CIFTI-2 dense\n"
+    "series (.dtseries.nii) with --labels, a .dlabel.nii (or a dense file of integer\n"
+    "labels); or a CIFTI-2 parcellated series (.ptseries.nii), whose parcels are the\n"
+    "regions (no --labels). The series are the mean over each label's voxels or\n"
+    "brainordinates.\n"
     "Cleaning, band limiting and the estimator come from --options (README: connect\n"
     "options). With several bands, --out is a name containing {band} or a folder; each\n"
     "band gets its own file (<input>_band-<name>_connectivity.<ext> in a folder).\n"
@@ -149,9 +155,10 @@ const Registration registration{Command{
      {"format", "FMT", "tsv, json or npy (default: from the --out extension)"},
      {"input-format", "FMT", "tsv, csv, text or npy (default: from the INPUT extension)"},
      {"no-header", "", "the input has no header row even though its first row is not numeric"},
-     {"labels", "IMAGE", "3-D integer label image (.nii, .nii.gz) for a NIfTI INPUT"},
+     {"labels", "IMAGE", "labels for an image INPUT: 3-D label image (NIfTI) or .dlabel.nii (CIFTI dense series)"},
      {"label-names", "TSV", "label index and name per line, for --labels"},
-     {"sampling-interval", "SECONDS", "time between frames (default: from the NIfTI header)"},
+     {"label-map", "MAP", "map of a CIFTI label file with several maps: name or number from 1"},
+     {"sampling-interval", "SECONDS", "time between frames (default: from the NIfTI or CIFTI header)"},
      {"method", "NAME", "estimator (default pearson; see README for the list)"},
      {"fisher-z", "", "apply Fisher's z = atanh(r) to the result"},
      {"options", "JSON", "connect options as a JSON object, or @FILE to read them from a file"}},

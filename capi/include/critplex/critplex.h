@@ -158,11 +158,38 @@ CPX_API cpx_status cpx_matrix_set_band(const cpx_matrix_set* set, size_t index, 
  * valid after the set is freed. */
 CPX_API cpx_status cpx_matrix_set_get(const cpx_matrix_set* set, size_t index, cpx_matrix** out);
 
-/* Regional mean time series from a 4-D NIfTI-1 image (.nii or .nii.gz) and a 3-D integer
- * label image on the same grid: one region per label > 0, in increasing label order.
- * Options: {"label_names": TSV of label index and name, "sampling_interval": seconds
- * (default: pixdim[4] of the image in its time unit)}. Errors name the file: mismatched
- * grids, non-integer labels, labels without voxels, unsupported datatypes. */
+/* Regional time series from an image file.
+ *   - NIfTI-1 or NIfTI-2 4-D image (.nii, .nii.gz) + a 3-D integer label image on the same
+ *     grid (labels_path): one region per label > 0, in increasing label order, the mean over
+ *     its voxels; names from "label_names", else "label-<k>".
+ *   - CIFTI-2 dense series (.dtseries.nii) + a CIFTI dense label file (labels_path: a
+ *     .dlabel.nii, or a dense file of integer labels such as a .dscalar.nii): each
+ *     brainordinate (surface vertex or voxel) takes the label the file gives the same vertex
+ *     or voxel; one region per label > 0, named from the file's label table (or
+ *     "label_names", else "label-<k>").
+ *   - CIFTI-2 parcellated series (.ptseries.nii) with labels_path NULL (or ""): the parcels
+ *     are the regions, in file order, with their names.
+ * Labels must be whole numbers from 0 to 2^53 (0 is background). The sampling interval
+ * comes from pixdim[4] in its time unit (NIfTI) or SeriesStep x 10^SeriesExponent when
+ * SeriesUnit is SECOND (CIFTI), unless given.
+ * Options (JSON object, NULL for none):
+ *   "label_names": TSV of label index and name (NIfTI and CIFTI dense label files);
+ *   "sampling_interval": seconds, > 0;
+ *   "label_map": which map of a CIFTI label file with several maps, by name or by number
+ *     from 1 (default: the only map);
+ *   "memory_budget_mb": integer 1..1048576, default 1024: the most the reader may hold
+ *     (label tables, the CIFTI header, the regional series); every size a header declares
+ *     is checked against it and against the file's real size before anything is allocated.
+ * image_path (borrowed, not NULL), labels_path (borrowed, may be NULL), out (on success a
+ * new series for cpx_series_free; NULL on failure).
+ * Status: CPX_ERR_ARGUMENT (NULL image_path or out, bad option, a label file missing or
+ * given where it does not apply), CPX_ERR_IO (cannot open or read), CPX_ERR_PARSE (not a
+ * supported image, header sizes that do not fit the file, malformed CIFTI XML: the message
+ * names the file and the field or element), CPX_ERR_DATA (unsupported datatype, grids or
+ * brainordinates that differ, labels that are not whole numbers, labels without voxels or
+ * missing from the table), CPX_ERR_BUDGET (past "memory_budget_mb"), CPX_ERR_MEMORY.
+ * Thread safety: independent calls may run in parallel. Since 0.1 (NIfTI-2, CIFTI-2,
+ * labels_path NULL and the options "label_map", "memory_budget_mb": since 0.2). */
 CPX_API cpx_status cpx_series_read_image(const char* image_path, const char* labels_path, const char* options_json,
                                          cpx_series** out);
 /* The series the correlation estimators of cpx_connect would see: cleaned, band-limited
