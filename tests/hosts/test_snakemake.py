@@ -66,6 +66,18 @@ class SnakemakeWorkflow(unittest.TestCase):
         self.assertEqual(read(os.path.join(flow, "group_tests.tsv")), read(os.path.join(cohort, "group_tests.tsv")))
         for step in ("compare", "report"):
             self.assertTrue(os.path.isfile(os.path.join(flow, "logs", f"{step}.log")), step)
+        # What a scheduler is told per subject job (a dry run lists every job's resources).
+        dry = subprocess.run(["snakemake", "-s", SNAKEFILE, "-n", "--forceall", "--cores", "2", "--directory", work,
+                              "--config", f"manifest={manifest}", f"analysis={analysis}", f"out={flow}", "threads=2"],
+                             capture_output=True, text=True)
+        self.assertEqual(dry.returncode, 0, dry.stderr[-3000:])
+        subject_jobs = dry.stdout.split("rule subject:")[1:]
+        self.assertEqual(len(subject_jobs), len(subjects))
+        for job in subject_jobs:
+            block = job.split("\n\n")[0]
+            self.assertIn("threads: 2", block)
+            self.assertIn("mem_mb=200", block)  # small studies get the 200 MiB floor
+            self.assertIn("runtime=60", block)
         return flow, cohort, subjects
 
     def test_timeseries_manifest_equals_cohort(self):
