@@ -9,7 +9,7 @@ build_pkgs=(build-essential cmake pkg-config libeigen3-dev libfftw3-dev nlohmann
 reference_pkgs=(python3 python3-numpy python3-scipy python3-sklearn python3-statsmodels python3-mpmath
                 python3-networkx python3-igraph python3-gudhi ripser time python3-nitime python3-nibabel
                 r-base-core r-cran-corpcor clang libclang-rt-14-dev octave liboctave-dev time
-                python3-nipype snakemake
+                python3-nipype snakemake slurm-wlm munge
                 python3-pip python3-setuptools python3-venv python3-pandas
                 r-base-dev r-cran-testthat r-cran-jsonlite r-cran-knitr r-cran-markdown)
 

@@ -103,6 +103,7 @@ std::vector<ManifestRow> read_manifest(const std::string& path) {
       else if (key == "confounds") row.confounds = value == "n/a" ? "" : as_path(value);
       else if (key == "image") row.image = as_path(value);
       else if (key == "labels") row.labels = as_path(value);
+      else if (key == "label_names") row.label_names = value == "n/a" ? "" : as_path(value);
       else {
         if (value == "n/a" || value.empty()) {
           row.covariates[key] = nullptr;
@@ -157,6 +158,11 @@ CohortSummary run_cohort(const std::string& manifest_path, const Json& config, c
     if (!row.timeseries.empty()) c["timeseries"] = row.timeseries;
     if (!row.image.empty()) c["image"] = row.image;
     if (!row.labels.empty()) c["labels"] = row.labels;
+    if (!row.label_names.empty()) {
+      if (config.contains("label_names"))
+        fail(ErrorKind::argument, "cohort config: \"label_names\" is given both in the config and in the manifest's column");
+      c["label_names"] = row.label_names;
+    }
     if (!row.confounds.empty()) c["confounds"] = row.confounds;
     c["covariates"] = row.covariates;
     try {

@@ -16,12 +16,13 @@ namespace critplex::pipeline {
 struct ManifestRow {
   std::size_t line = 0;  // 1-based line in the manifest file
   std::string subject, group;
-  std::string timeseries, confounds, image, labels;
+  std::string timeseries, confounds, image, labels, label_names;
   Json covariates = Json::object();
 };
 
 // Reads a manifest TSV: header with "subject" and "group", and "timeseries" (or "image"
-// and "labels"); optional "confounds"; every other column is a numeric covariate.
+// and "labels", optionally "label_names": the atlas's index/name table); optional
+// "confounds"; every other column is a numeric covariate.
 // Relative paths are taken relative to the manifest's folder.
 std::vector<ManifestRow> read_manifest(const std::string& path);
 

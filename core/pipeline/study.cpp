@@ -34,14 +34,52 @@ Json demo_analysis_config() {
   })");
 }
 
+Json model_document(const simulate::CohortModel& model, const simulate::CohortPlan& plan) {
+  Json subjects = Json::array();
+  for (const auto& s : plan.subjects)
+    subjects.push_back({{"subject", s.id}, {"group", s.group}, {"global_strength", s.global_strength}, {"age", s.age}});
+  return {{"model", simulate::to_json(model)}, {"subjects", subjects},
+          {"note", "Invented data from critplex's demo cohort model; no real person is described."}};
+}
+
 Json write_simulated_study(const Json& options, const std::string& dir) {
+  if (!options.is_object()) fail(ErrorKind::argument, "simulate options must be a JSON object");
+  // The layout keys are ours; everything else belongs to the cohort model.
   Json model_options = options;
+  std::string layout = "tsv";
+  BidsStudyOptions bids;
+  bool has_config = false;
   Json config = demo_analysis_config();
-  if (model_options.contains("config")) {
-    config = model_options["config"];
-    model_options.erase("config");
+  {
+    Json own = Json::object();
+    for (const char* key : {"config", "layout", "sessions", "block"})
+      if (model_options.contains(key)) {
+        own[key] = model_options[key];
+        model_options.erase(key);
+      }
+    OptionReader r(own, "simulate options");
+    layout = r.choice("layout", "tsv", {"tsv", "bids"});
+    if (const Json* c = r.raw("config")) {
+      config = *c;
+      has_config = true;
+    }
+    if (layout != "bids" && (r.has("sessions") || r.has("block")))
+      fail(ErrorKind::argument, "simulate options: \"sessions\" and \"block\" need \"layout\": \"bids\"");
+    const long long sessions = r.integer("sessions", 0);
+    if (sessions < 0 || sessions > 99) fail(ErrorKind::argument, "simulate options: \"sessions\" must be in [0, 99]");
+    bids.sessions = static_cast<std::size_t>(sessions);
+    const long long block = r.integer("block", 2);
+    if (block < 1 || block > 8) fail(ErrorKind::argument, "simulate options: \"block\" must be in [1, 8]");
+    bids.block = static_cast<int>(block);
+    r.finish();
   }
   const auto model = simulate::cohort_model_from_json(model_options, "simulate options");
+  if (layout == "bids") {
+    // Images carry the repetition time in their header; the demo regresses out the
+    // confounds preprocessing pipelines commonly provide (motion and tissue signals).
+    if (!has_config) config["connect"]["clean"] = {{"regressor_columns", Json::array({"motion_*", "white_matter", "csf"})}};
+    return write_bids_study(model, bids, config, dir);
+  }
   const auto plan = simulate::plan_cohort(model);
   // TSV files carry no sampling interval; the config does.
   if (config.is_object() && config.contains("connect") && config["connect"].is_object() &&
@@ -50,20 +88,16 @@ Json write_simulated_study(const Json& options, const std::string& dir) {
   io::make_folders(dir);
   io::make_folders(dir + "/timeseries");
   std::string manifest = "subject\tgroup\ttimeseries\tage\n";
-  Json subjects = Json::array();
   for (std::size_t i = 0; i < plan.subjects.size(); ++i) {
     const auto& s = plan.subjects[i];
     const std::string rel = "timeseries/sub-" + s.id + "_timeseries.tsv";
     io::write_file_atomically(dir + "/" + rel, series_tsv(simulate::simulate_subject(model, plan, i)));
     manifest += s.id + "\t" + s.group + "\t" + rel + "\t" + io::format_double(s.age) + "\n";
-    subjects.push_back({{"subject", s.id}, {"group", s.group}, {"global_strength", s.global_strength}, {"age", s.age}});
   }
   io::write_file_atomically(dir + "/manifest.tsv", manifest);
   io::write_file_atomically(dir + "/cohort_config.json", config.dump(1) + "\n");
-  Json model_doc = {{"model", simulate::to_json(model)}, {"subjects", subjects},
-                    {"note", "Invented data from critplex's demo cohort model; no real person is described."}};
-  io::write_file_atomically(dir + "/model.json", model_doc.dump(1) + "\n");
-  return {{"subjects", plan.subjects.size()}, {"regions", model.regions}, {"frames", model.frames},
+  io::write_file_atomically(dir + "/model.json", model_document(model, plan).dump(1) + "\n");
+  return {{"layout", "tsv"}, {"subjects", plan.subjects.size()}, {"regions", model.regions}, {"frames", model.frames},
           {"manifest", dir + "/manifest.tsv"}, {"config", dir + "/cohort_config.json"}};
 }
 

@@ -1,4 +1,5 @@
-// critplex simulate --out DIR: a synthetic cohort (invented data) with chosen group effects.
+// critplex simulate --out DIR [--layout bids]: a synthetic cohort (invented data) with chosen
+// group effects, as time series tables or as a preprocessing pipeline's derivatives.
 #include <nlohmann/json.hpp>
 
 #include "cli.hpp"
@@ -21,6 +22,12 @@ int run_simulate(const Args& args) {
   if (args.has("frames")) options["frames"] = args.integer("frames", 600);
   if (args.has("seed")) options["seed"] = args.integer("seed", 1);
   if (args.has("sampling-interval")) options["sampling_interval"] = args.number("sampling-interval", 0.8);
+  if (auto v = args.value("layout")) {
+    if (*v != "tsv" && *v != "bids") throw Failure("--layout: expected tsv or bids, got '" + *v + "'", 2);
+    options["layout"] = *v;
+  }
+  if (args.has("sessions")) options["sessions"] = args.integer("sessions", 0);
+  if (args.has("block")) options["block"] = args.integer("block", 2);
   if (args.has("subjects") || args.has("effect")) {
     const long long n = args.integer("subjects", 20);
     const double effect = args.number("effect", 0.25);
@@ -34,6 +41,9 @@ int run_simulate(const Args& args) {
   cpx_string_free(summary);
   std::printf("simulated %d subjects (%d regions, %d frames) in %s\n", s["subjects"].get<int>(), s["regions"].get<int>(),
               s["frames"].get<int>(), out->c_str());
+  if (s["layout"] == "bids")
+    std::printf("derivatives: %s\natlas: %s (labels %s)\n", s["derivatives"].get<std::string>().c_str(),
+                s["atlas"].get<std::string>().c_str(), s["atlas_labels"].get<std::string>().c_str());
   std::printf("next: critplex cohort %s --config %s --out RESULTS\n", s["manifest"].get<std::string>().c_str(),
               s["config"].get<std::string>().c_str());
   return 0;
@@ -46,7 +56,10 @@ const Registration registration{Command{
     "The model (README: the demo study) is a fictional sleep laboratory: rested and\n"
     "sleep-deprived volunteers whose modular regional signals share a global signal that\n"
     "is stronger in the deprived group. Writes time series, manifest.tsv,\n"
-    "cohort_config.json and model.json into DIR.",
+    "cohort_config.json and model.json into DIR. With --layout bids, DIR (new or empty)\n"
+    "becomes a BIDS dataset whose derivatives/critplex-simulate/ holds 4-D NIfTI-1 runs,\n"
+    "an atlas with its label table, confounds tables and JSON sidecars, and DIR holds a\n"
+    "manifest of image and atlas rows for critplex cohort.",
     {{"out", "DIR", "output folder (required; created if missing)"},
      {"subjects", "N", "subjects per group (default 20)"},
      {"effect", "X", "how much stronger the deprived group's global signal is (default 0.25)"},
@@ -54,6 +67,9 @@ const Registration registration{Command{
      {"frames", "T", "time points (default 600)"},
      {"sampling-interval", "S", "seconds between time points (default 0.8)"},
      {"seed", "N", "study seed (default 1)"},
+     {"layout", "KIND", "tsv (time series tables, default) or bids (images as pipeline derivatives)"},
+     {"sessions", "N", "bids: sessions per subject (default 0: no session level)"},
+     {"block", "N", "bids: voxels along each side of a region's cube, 1-8 (default 2)"},
      {"options", "JSON", "model options as a JSON object (README: the demo study)"}},
     0,
     0,

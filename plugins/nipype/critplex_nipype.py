@@ -6,17 +6,24 @@ command line, which runs through the same C interface as every other host.
     node = pe.Node(CritplexSubject(connect={"method": "ledoit_wolf", "sampling_interval": 2.0},
                                    sweep={"max_density": 0.3}), name="topology")
     wf.connect(parcellate, "timeseries_file", node, "timeseries")
+    # or straight from a preprocessed run and an atlas on its grid:
+    CritplexSubject(image="sub-01_..._desc-preproc_bold.nii.gz", labels="atlas.nii.gz",
+                    label_names="atlas.tsv", confounds="sub-01_..._desc-confounds_timeseries.tsv", ...)
 
 Research software, not a medical device: not for clinical decisions.
 """
 import json
 import os
 
-from nipype.interfaces.base import (CommandLine, CommandLineInputSpec, File, TraitedSpec, traits)
+from nipype.interfaces.base import (CommandLine, CommandLineInputSpec, File, TraitedSpec, isdefined, traits)
 
 
 class CritplexSubjectInputSpec(CommandLineInputSpec):
-    timeseries = File(exists=True, mandatory=True, desc="regional time series (TSV, CSV, text or NPY)")
+    timeseries = File(exists=True, mandatory=True, xor=["image"], desc="regional time series (TSV, CSV, text or NPY)")
+    image = File(exists=True, mandatory=True, xor=["timeseries"], requires=["labels"],
+                 desc="4-D NIfTI-1 series, e.g. a preprocessed BOLD run (instead of timeseries)")
+    labels = File(exists=True, desc="3-D label image (atlas) on the image's grid")
+    label_names = File(exists=True, desc="the atlas's table of index and name (TSV)")
     subject_id = traits.Str("01", usedefault=True, desc="subject id (letters, digits, '-', '.')")
     group = traits.Str("", usedefault=True, desc="group label carried into the outputs")
     confounds = File(exists=True, desc="confounds table (TSV with header)")
@@ -42,8 +49,11 @@ class CritplexSubject(CommandLine):
     output_spec = CritplexSubjectOutputSpec
 
     def _run_interface(self, runtime):
-        cfg = {"id": self.inputs.subject_id, "group": self.inputs.group,
-               "timeseries": os.path.abspath(self.inputs.timeseries)}
+        cfg = {"id": self.inputs.subject_id, "group": self.inputs.group}
+        for key in ("timeseries", "image", "labels", "label_names"):
+            value = getattr(self.inputs, key)
+            if isdefined(value):
+                cfg[key] = os.path.abspath(value)
         for key in ("connect", "sweep", "null"):
             value = getattr(self.inputs, key)
             if value:

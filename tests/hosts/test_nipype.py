@@ -79,6 +79,30 @@ class NipypeWorkflow(unittest.TestCase):
         for g in doc["groups"]:
             self.assertEqual(sorted(g["subjects"]), sorted(r["subject"] for r in self.rows if r["group"] == g["name"]))
 
+    def test_subject_node_on_an_image_and_atlas(self):
+        # A run of `critplex simulate --layout bids`: image, atlas, its label table, confounds.
+        study = os.path.join(WORK, "bids")
+        subprocess.run(["critplex", "simulate", "--layout", "bids", "--out", study, "--subjects", "1", "--regions", "12",
+                        "--frames", "150", "--seed", "11"], check=True, capture_output=True)
+        with open(os.path.join(study, "manifest.tsv")) as f:
+            row = next(csv.DictReader(f, delimiter="\t"))
+        inputs = {k: os.path.join(study, row[k]) for k in ("image", "labels", "label_names", "confounds")}
+        connect = {"method": "pearson", "clean": {"regressor_columns": ["motion_*"]}}
+        results = os.path.join(WORK, "bids-results")
+        os.makedirs(results)
+        node = pe.Node(CritplexSubject(subject_id=row["subject"], group=row["group"], connect=connect, sweep=self.sweep,
+                                       out_dir=results, **inputs), name="subject_image", base_dir=os.path.join(WORK, "nipype-bids"))
+        node.run()
+        direct = os.path.join(WORK, "bids-direct")
+        os.makedirs(direct)
+        cfg = os.path.join(direct, "config.json")
+        with open(cfg, "w") as f:
+            json.dump({"id": row["subject"], "group": row["group"], "connect": connect, "sweep": self.sweep, **inputs}, f)
+        subprocess.run(["critplex", "subject", cfg, "--out", direct], check=True, capture_output=True)
+        name = f"sub-{row['subject']}_connectivity.tsv"
+        self.assertEqual(curves(os.path.join(results, name)), curves(os.path.join(direct, name)))
+        self.assertEqual(curves(os.path.join(results, name))[0][1], "mod1_reg01")
+
 
 if __name__ == "__main__":
     unittest.main()

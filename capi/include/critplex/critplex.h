@@ -337,7 +337,14 @@ CPX_API cpx_status cpx_cohort_report(const char* dir, const char* options_json, 
 
 /* Writes a simulated study (invented data: time series, manifest.tsv, cohort_config.json,
  * model.json) into dir from the demo cohort model; options as cpx_simulate_plan plus
- * "config" (the subject config to write). Returns a summary as JSON. */
+ * "config" (the subject config to write). Returns a summary as JSON.
+ * Since 0.2, options also take "layout": "tsv" (default) or "bids": dir (new or empty)
+ * becomes a BIDS dataset with derivatives/critplex-simulate/ (4-D NIfTI-1 runs, an atlas
+ * and its index/name table, confounds tables, JSON sidecars, participants.tsv) and a
+ * manifest of image and atlas rows for cpx_cohort_run; with it "sessions" (0-99, default 0:
+ * no session level) and "block" (voxels along a region's cube side, 1-8, default 2). The
+ * bids layout is written into a temporary sibling folder and renamed, so a failure leaves
+ * nothing behind. */
 CPX_API cpx_status cpx_simulate_study(const char* options_json, const char* dir, char** summary_json);
 
 /* --- stage sections below are added by the stages that own them ----------------------- */
