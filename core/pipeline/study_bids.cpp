@@ -9,7 +9,7 @@
 #include <filesystem>
 
 #include "base/error.hpp"
-#include "cohort/random.hpp"
+#include "base/random.hpp"
 #include "io/files.hpp"
 #include "io/nifti_write.hpp"
 #include "pipeline/study.hpp"
@@ -63,12 +63,8 @@ std::string number_text(double x) {
   return buffer;
 }
 
-// A seed for one stream of one run, decorrelated from its neighbours by a draw of
-// mt19937_64 (whose seeding already mixes nearby values).
-std::uint64_t stream_seed(std::uint64_t seed, std::uint64_t stream) {
-  cohort::Random r(seed ^ (0x5851f42d4c957f2dULL * (stream + 1)));
-  return r.next();
-}
+// A seed for one stream of one run, decorrelated from its neighbours.
+std::uint64_t stream_seed(std::uint64_t seed, std::uint64_t stream) { return derived_seed(seed, stream + 1); }
 
 // Regions as cubes of block^3 voxels in a box of near-equal sides, one background voxel
 // around it.
@@ -119,7 +115,7 @@ struct Confounds {
 };
 
 Confounds make_confounds(const std::vector<double>& global_signal, std::size_t frames, std::uint64_t seed) {
-  cohort::Random random(seed);
+  Random random(seed);
   Confounds c;
   auto ar1 = [&](double mean, double sd, double phi) {
     std::vector<double> x(frames);
@@ -246,7 +242,7 @@ void write_layout(Writer& w, const simulate::CohortModel& model, const simulate:
   // Baselines per region, shared by every subject (drawn from the study seed).
   std::vector<double> baseline(model.regions);
   {
-    cohort::Random random(stream_seed(model.seed, 0));
+    Random random(stream_seed(model.seed, 0));
     for (auto& b : baseline) b = 600.0 + 600.0 * random.uniform();
   }
 
@@ -286,7 +282,7 @@ void write_layout(Writer& w, const simulate::CohortModel& model, const simulate:
       bold.description = "critplex demo run (invented)";
       const std::size_t V = grid.voxels();
       bold.values.assign(V * frames, 0.0);
-      cohort::Random noise(stream_seed(run_plan.subjects[i].seed, 1));
+      Random noise(stream_seed(run_plan.subjects[i].seed, 1));
       std::vector<double> global(frames, 0.0), draw;
       for (std::size_t t = 0; t < frames; ++t) {
         for (std::size_t r = 0; r < model.regions; ++r) {
