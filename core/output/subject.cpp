@@ -9,8 +9,9 @@
 
 namespace critplex::output {
 
-std::string subject_prefix(const std::string& id, const std::string& band) {
+std::string subject_prefix(const std::string& id, const std::string& session, const std::string& band) {
   std::string p = "sub-" + id;
+  if (!session.empty()) p += "_ses-" + session;
   if (!band.empty()) {
     std::string safe;
     for (char c : band) safe.push_back(std::isalnum(static_cast<unsigned char>(c)) ? c : '-');
@@ -54,6 +55,7 @@ Json subject_document(const pipeline::SubjectResult& r) {
   doc["kind"] = "critplex subject result";
   doc["format_version"] = 1;
   doc["subject"] = r.config.id;
+  if (!r.config.session.empty()) doc["session"] = r.config.session;
   doc["group"] = r.config.group;
   doc["covariates"] = r.config.covariates;
   doc["series"] = {{"frames", r.frames}, {"regions", r.regions}};
@@ -82,13 +84,13 @@ Json subject_document(const pipeline::SubjectResult& r) {
 std::vector<NamedText> subject_files(const pipeline::SubjectResult& r) {
   std::vector<NamedText> files;
   for (const auto& b : r.bands) {
-    const std::string prefix = subject_prefix(r.config.id, b.band);
+    const std::string prefix = subject_prefix(r.config.id, r.config.session, b.band);
     files.push_back({prefix + "_connectivity.tsv", io::format_matrix(b.matrix, "tsv")});
     files.push_back({prefix + "_curves.tsv", curves_tsv(curve_columns(b.sweep))});
     if (b.sweep.transitions)
       files.push_back({prefix + "_transitions.tsv", transitions_tsv(*b.sweep.transitions, b.sweep.densities())});
   }
-  files.push_back({subject_prefix(r.config.id, "") + "_topology.json", subject_document(r).dump(1) + "\n"});
+  files.push_back({subject_prefix(r.config.id, r.config.session, "") + "_topology.json", subject_document(r).dump(1) + "\n"});
   return files;
 }
 

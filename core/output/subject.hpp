@@ -15,8 +15,8 @@ struct NamedText {
   std::string text;
 };
 
-// File name prefix of a subject's outputs: "sub-<id>" (+ "_band-<name>").
-std::string subject_prefix(const std::string& id, const std::string& band);
+// File name prefix of a subject's outputs: "sub-<id>" (+ "_ses-<session>") (+ "_band-<name>").
+std::string subject_prefix(const std::string& id, const std::string& session, const std::string& band);
 
 // The subject document: subject, group, covariates, series, bands (connectivity,
 // sweep, curves, null), provenance (version, config as given and as resolved, inputs

@@ -77,6 +77,7 @@ SubjectRecord read_subject_record(const std::string& path, const std::string& ba
   SubjectRecord s;
   s.path = path;
   s.id = doc.value("subject", "");
+  s.session = doc.value("session", "");
   s.group = doc.value("group", "");
   const Json covariates = doc.value("covariates", Json::object());
   for (auto it = covariates.begin(); it != covariates.end(); ++it) s.covariates[it.key()] = number_or_nan(it.value());

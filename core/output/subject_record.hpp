@@ -25,7 +25,7 @@ std::size_t summary_rank(const std::string& name);
 
 struct SubjectRecord {
   std::string path;  // the document it came from
-  std::string id, group;
+  std::string id, session, group;  // session: "" when the study has none
   std::map<std::string, double> covariates;  // NaN where the value is missing
   std::string band;
   std::size_t nodes = 0;

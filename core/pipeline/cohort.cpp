@@ -68,7 +68,7 @@ std::vector<ManifestRow> read_manifest(const std::string& path) {
   std::vector<ManifestRow> rows;
   std::vector<std::string> header;
   std::size_t line_no = 0, start = 0;
-  std::vector<std::string> ids;
+  std::vector<std::string> ids;  // subject + session, each once
   while (start < text.size()) {
     std::size_t end = text.find('\n', start);
     if (end == std::string::npos) end = text.size();
@@ -98,6 +98,7 @@ std::vector<ManifestRow> read_manifest(const std::string& path) {
       const std::string& value = cells[c];
       auto as_path = [&](const std::string& p) { return p.empty() || p[0] == '/' ? p : base + "/" + p; };
       if (key == "subject") row.subject = value;
+      else if (key == "session") row.session = value == "n/a" ? "" : value;
       else if (key == "group") row.group = value;
       else if (key == "timeseries") row.timeseries = as_path(value);
       else if (key == "confounds") row.confounds = value == "n/a" ? "" : as_path(value);
@@ -119,10 +120,11 @@ std::vector<ManifestRow> read_manifest(const std::string& path) {
     }
     if (row.subject.empty()) fail(ErrorKind::parse, "'" + path + "', line " + std::to_string(line_no) + ": empty subject id");
     if (row.group.empty()) fail(ErrorKind::parse, "'" + path + "', line " + std::to_string(line_no) + ": empty group");
-    if (std::find(ids.begin(), ids.end(), row.subject) != ids.end())
-      fail(ErrorKind::parse, "'" + path + "', line " + std::to_string(line_no) + ": subject '" + row.subject +
-                                 "' appears twice");
-    ids.push_back(row.subject);
+    const std::string key = row.subject + "\t" + row.session;
+    if (std::find(ids.begin(), ids.end(), key) != ids.end())
+      fail(ErrorKind::parse, "'" + path + "', line " + std::to_string(line_no) + ": subject '" + row.subject + "'" +
+                                 (row.session.empty() ? "" : " session '" + row.session + "'") + " appears twice");
+    ids.push_back(key);
     rows.push_back(std::move(row));
   }
   if (header.empty()) fail(ErrorKind::parse, "'" + path + "' is empty");
@@ -145,7 +147,7 @@ CohortSummary run_cohort(const std::string& manifest_path, const Json& config, c
   const auto started = std::chrono::steady_clock::now();
   const auto rows = read_manifest(manifest_path);
   if (!config.is_object()) fail(ErrorKind::argument, "cohort config must be a JSON object");
-  for (const char* key : {"id", "group", "timeseries", "image", "labels", "confounds", "covariates"})
+  for (const char* key : {"id", "session", "group", "timeseries", "image", "labels", "confounds", "covariates"})
     if (config.contains(key))
       fail(ErrorKind::argument, std::string("cohort config: \"") + key + "\" comes from the manifest, not the config");
 
@@ -154,6 +156,7 @@ CohortSummary run_cohort(const std::string& manifest_path, const Json& config, c
   for (const auto& row : rows) {
     Json c = config;
     c["id"] = row.subject;
+    if (!row.session.empty()) c["session"] = row.session;
     c["group"] = row.group;
     if (!row.timeseries.empty()) c["timeseries"] = row.timeseries;
     if (!row.image.empty()) c["image"] = row.image;
@@ -202,7 +205,7 @@ CohortSummary run_cohort(const std::string& manifest_path, const Json& config, c
       out.group = c.group;
       const auto t0 = std::chrono::steady_clock::now();
       try {
-        const std::string doc_path = out_dir + "/" + output::subject_prefix(c.id, "") + "_topology.json";
+        const std::string doc_path = out_dir + "/" + output::subject_prefix(c.id, c.session, "") + "_topology.json";
         const std::string fingerprint = subject_fingerprint(c, input_checksums(c));
         if (!options.force && finished_fingerprint(doc_path) == fingerprint) {
           out.status = "skipped";

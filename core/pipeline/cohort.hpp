@@ -15,7 +15,7 @@ namespace critplex::pipeline {
 // One manifest row: subject, group, inputs and covariates.
 struct ManifestRow {
   std::size_t line = 0;  // 1-based line in the manifest file
-  std::string subject, group;
+  std::string subject, session, group;  // session: "" when the study has none
   std::string timeseries, confounds, image, labels, label_names;
   Json covariates = Json::object();
 };
@@ -33,7 +33,7 @@ struct CohortOptions {
 CohortOptions parse_cohort_options(const Json& options);
 
 struct SubjectOutcome {
-  std::string subject, group;
+  std::string subject, session, group;  // session: "" when the study has none
   std::string status;    // "done", "skipped" (unchanged since last run) or "failed"
   std::string message;   // the reason when failed
   double seconds = 0.0;

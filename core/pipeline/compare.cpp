@@ -273,10 +273,13 @@ Comparison compare(const std::vector<output::SubjectRecord>& subjects, const Com
 Comparison compare_cohort(const std::string& dir, const CompareOptions& options) {
   namespace fs = std::filesystem;
   // Which subjects: the manifest copy a cohort run leaves, else every subject document.
-  std::vector<std::pair<std::string, std::string>> listed;  // id, group
+  struct Listed {
+    std::string id, session, group;
+  };
+  std::vector<Listed> listed;
   const std::string manifest = dir + "/manifest.tsv";
   if (fs::exists(manifest)) {
-    for (const auto& row : read_manifest(manifest)) listed.emplace_back(row.subject, row.group);
+    for (const auto& row : read_manifest(manifest)) listed.push_back({row.subject, row.session, row.group});
   } else {
     if (!fs::is_directory(dir)) fail(ErrorKind::io, "'" + dir + "' is not a folder");
     std::vector<std::string> names;
@@ -287,18 +290,21 @@ Comparison compare_cohort(const std::string& dir, const CompareOptions& options)
         names.push_back(n.substr(4, n.size() - 4 - tail.size()));
     }
     std::sort(names.begin(), names.end());
-    for (const auto& id : names) listed.emplace_back(id, "");
+    for (const auto& name : names) {
+      const auto ses = name.find("_ses-");
+      listed.push_back({name.substr(0, ses), ses == std::string::npos ? "" : name.substr(ses + 5), ""});
+    }
   }
   std::vector<output::SubjectRecord> subjects;
   std::vector<std::string> missing;
-  for (const auto& [id, group] : listed) {
-    const std::string path = dir + "/" + output::subject_prefix(id, "") + "_topology.json";
+  for (const auto& l : listed) {
+    const std::string path = dir + "/" + output::subject_prefix(l.id, l.session, "") + "_topology.json";
     if (!fs::exists(path)) {
-      missing.push_back(id);
+      missing.push_back(l.session.empty() ? l.id : l.id + " (session " + l.session + ")");
       continue;
     }
     output::SubjectRecord s = output::read_subject_record(path, options.band);
-    if (!group.empty()) s.group = group;
+    if (!l.group.empty()) s.group = l.group;
     if (s.group.empty()) fail(ErrorKind::data, "'" + path + "': the subject has no group");
     subjects.push_back(std::move(s));
   }

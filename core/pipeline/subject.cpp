@@ -18,6 +18,9 @@ const OptionSection& subject_option_section() {
       "cpx_subject_run, critplex subject CONFIG.json; the cohort config (without id, group and input paths)",
       "One subject end to end: inputs, connectivity, sweep and null model.",
       {{.key = "id", .type = "string", .meaning = "subject id (letters, digits, '-', '.'); outputs are named sub-<id>_..."},
+       {.key = "session", .type = "string", .default_value = "",
+        .meaning = "session label (letters and digits) of a study with repeated sessions; outputs are named "
+                   "sub-<id>_ses-<session>_..."},
        {.key = "group", .type = "string", .default_value = "", .meaning = "carried into the outputs"},
        {.key = "covariates", .type = "object", .meaning = "numbers carried into the outputs, e.g. {\"age\": 31}"},
        {.key = "timeseries", .type = "string", .meaning = "TSV/CSV/text/NPY time series (frames down, regions across)"},
@@ -71,6 +74,10 @@ SubjectConfig parse_subject_config(const Json& config, const std::string& base_d
   if (r.has("base_dir")) base = resolve(r.text("base_dir"), base_dir);
   c.id = r.text("id");
   check_id(c.id);
+  c.session = r.text("session");
+  for (char ch : c.session)
+    if (!std::isalnum(static_cast<unsigned char>(ch)))
+      fail(ErrorKind::argument, "subject config: \"session\" may hold letters and digits only, got \"" + c.session + "\"");
   c.group = r.text("group");
   c.timeseries = resolve(r.text("timeseries"), base);
   c.image = resolve(r.text("image"), base);

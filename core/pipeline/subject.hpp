@@ -22,6 +22,7 @@ const OptionSection& subject_option_section();
 
 struct SubjectConfig {
   std::string id;
+  std::string session;          // optional (a study with repeated sessions): letters and digits
   std::string group;            // optional, carried into the outputs
   std::string timeseries;       // TSV/CSV/text/NPY path, or
   std::string image, labels, label_names;  // a 4-D NIfTI image with a label atlas
