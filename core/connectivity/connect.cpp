@@ -4,7 +4,7 @@
 #include <cmath>
 
 #include "base/error.hpp"
-#include "base/options.hpp"
+#include "base/option_schema.hpp"
 #include "connectivity/pearson.hpp"
 #include "connectivity/phase.hpp"
 #include "connectivity/shrinkage.hpp"
@@ -42,75 +42,139 @@ series::Band band_from(const Json& value, const std::string& name, const std::st
 }
 
 void parse_clean(const Json& object, const std::string& where, series::CleanOptions& c) {
-  OptionReader r(object, where);
-  c.regressor_table = r.text("regressor_table", "");
+  SchemaReader r(object, clean_option_section(), where);
+  c.regressor_table = r.text("regressor_table");
   c.regressor_columns = r.texts("regressor_columns");
-  c.regressor_missing = r.choice("regressor_missing", "zero", {"zero", "column_mean", "error"});
-  const long long order = r.integer("trend_order", -1);
-  if (order < -1 || order > 5) fail(ErrorKind::argument, where + ": option \"trend_order\" must be -1 (none) to 5, got " + std::to_string(order));
-  c.trend_order = static_cast<int>(order);
-  c.unit_variance = r.boolean("unit_variance", false);
-  if (const Json* censor = r.raw("censor"); censor && !censor->is_null()) {
-    OptionReader cr(*censor, where + ".censor");
-    c.motion_column = cr.text("motion_column", "");
-    c.motion_limit = cr.number("motion_limit", 0.5);
-    if (!(c.motion_limit > 0)) fail(ErrorKind::argument, where + ".censor: option \"motion_limit\" must be positive");
-    c.frame_mask = cr.text("frame_mask", "");
-    c.min_frames = cr.integer("min_frames", 10);
-    if (c.min_frames < 3) fail(ErrorKind::argument, where + ".censor: option \"min_frames\" must be at least 3");
+  c.regressor_missing = r.choice("regressor_missing");
+  c.trend_order = static_cast<int>(r.integer("trend_order"));
+  c.unit_variance = r.boolean("unit_variance");
+  if (const Json* censor = r.raw("censor")) {
+    SchemaReader cr(*censor, censor_option_section(), where);
+    c.motion_column = cr.text("motion_column");
+    c.motion_limit = cr.number("motion_limit");
+    c.frame_mask = cr.text("frame_mask");
+    c.min_frames = cr.integer("min_frames");
     cr.finish();
   }
   r.finish();
   if (c.regressor_table.empty() && !c.regressor_columns.empty())
-    fail(ErrorKind::argument, where + ": \"regressor_columns\" needs \"regressor_table\"");
+    fail(ErrorKind::argument, where + ": \"clean.regressor_columns\" needs \"clean.regressor_table\"");
   if (!c.regressor_table.empty() && c.regressor_columns.empty() && c.motion_column.empty())
-    fail(ErrorKind::argument, where + ": \"regressor_table\" is given but no \"regressor_columns\" choose from it");
+    fail(ErrorKind::argument, where + ": \"clean.regressor_table\" is given but no \"clean.regressor_columns\" choose from it");
   if (c.regressor_table.empty() && !c.motion_column.empty())
-    fail(ErrorKind::argument, where + ".censor: \"motion_column\" needs \"regressor_table\" in \"clean\"");
+    fail(ErrorKind::argument, where + ": \"clean.censor.motion_column\" needs \"clean.regressor_table\"");
 }
 
 }  // namespace
 
+const OptionSection& connect_option_section() {
+  std::vector<std::string> methods;
+  for (const auto& [name, e] : kEstimators) methods.push_back(name);
+  static const OptionSection section{
+      "connect",
+      "connect options",
+      "cpx_connect, cpx_connect_bands, cpx_series_clean, critplex connect --options, the subject config's \"connect\"",
+      "From a regional time series to connectivity matrices: cleaning, band limiting, the estimator.",
+      {{.key = "method", .type = "choice", .default_value = "pearson", .choices = methods,
+        .meaning = "estimator: Pearson; shrunk covariance (Ledoit-Wolf, OAS) or correlation (Schafer-Strimmer) as "
+                   "correlation; partial correlation; phase and envelope couplings from the analytic signal"},
+       {.key = "fisher_z", .type = "boolean", .default_value = false,
+        .meaning = "atanh(r) off the diagonal, diagonal 0 (not for plv, pli, wpli)"},
+       {.key = "sampling_interval", .type = "number", .default_note = "from the input", .min = 0, .min_open = true,
+        .meaning = "seconds between frames; needed for band limiting; overrides the image header"},
+       {.key = "partial_basis", .type = "choice", .default_value = "ledoit_wolf",
+        .choices = {"ledoit_wolf", "oas", "shrinkage_correlation", "sample"},
+        .meaning = "covariance inverted by \"partial\" (\"sample\" needs more frames than regions)"},
+       {.key = "clean", .type = "object", .meaning = "confound regression, detrending, censoring (section connect.clean)"},
+       {.key = "filter", .type = "object", .meaning = "band limiting of one band (section connect.filter)"},
+       {.key = "bands", .type = "object", .meaning = "several named bands {\"name\": [low_hz, high_hz]}, one matrix each, "
+                                                     "reported from low to high; names are letters and digits"}}};
+  return section;
+}
+
+const OptionSection& clean_option_section() {
+  static const OptionSection section{
+      "connect.clean",
+      "connect options",
+      "the \"clean\" of the connect options",
+      "Confound regression with intercept and trend (fitted on the frames censoring keeps), censoring, "
+      "standardising.",
+      {{.key = "regressor_table", .type = "string", .meaning = "confounds TSV with a header row; n/a marks undefined cells"},
+       {.key = "regressor_columns", .type = "strings",
+        .meaning = "columns to regress out; * matches any run of characters, ? one; each entry must match a column"},
+       {.key = "regressor_missing", .type = "choice", .default_value = "zero", .choices = {"zero", "column_mean", "error"},
+        .meaning = "what an n/a cell of a chosen column becomes"},
+       {.key = "trend_order", .type = "integer", .default_value = -1, .default_note = "-1 = none", .min = -1, .max = 5,
+        .meaning = "polynomial trend removed with the confounds (0: mean, 1: linear, ...)"},
+       {.key = "unit_variance", .type = "boolean", .default_value = false,
+        .meaning = "each region to mean 0 and standard deviation 1 (n - 1 denominator) after cleaning"},
+       {.key = "censor", .type = "object", .meaning = "frames to drop (section connect.clean.censor)"}}};
+  return section;
+}
+
+const OptionSection& censor_option_section() {
+  static const OptionSection section{
+      "connect.clean.censor",
+      "connect options",
+      "the \"clean.censor\" of the connect options",
+      "Censoring (scrubbing): frames dropped after filtering.",
+      {{.key = "motion_column", .type = "string",
+        .meaning = "a column of the regressor table (e.g. framewise displacement); n/a never censors"},
+       {.key = "motion_limit", .type = "number", .default_value = 0.5, .min = 0, .min_open = true,
+        .meaning = "frames whose motion value exceeds this are dropped (0.5 mm: Power et al. 2012)"},
+       {.key = "frame_mask", .type = "string", .meaning = "a file with one 1 (keep) or 0 (drop) per frame"},
+       {.key = "min_frames", .type = "integer", .default_value = 10, .min = 3,
+        .meaning = "fewer frames left after censoring is an error"}}};
+  return section;
+}
+
+const OptionSection& filter_option_section() {
+  static const OptionSection section{
+      "connect.filter",
+      "connect options",
+      "the \"filter\" of the connect options",
+      "Band limiting: the pass band and the filter design (design and order also apply to \"bands\").",
+      {{.key = "low_hz", .type = "number", .min = 0, .min_open = true, .meaning = "low edge (only low_hz: high-pass)"},
+       {.key = "high_hz", .type = "number", .min = 0, .min_open = true, .meaning = "high edge (only high_hz: low-pass)"},
+       {.key = "design", .type = "choice", .default_value = "butterworth", .choices = {"butterworth", "fft_mask"},
+        .meaning = "Butterworth run forward and backward (zero phase, edges padded by odd reflection), or zeroing "
+                   "the FFT bins outside the band"},
+       {.key = "order", .type = "integer", .default_value = 4, .min = 1, .max = 12,
+        .meaning = "Butterworth order per pass (a band-pass of order n has 2n poles)"}}};
+  return section;
+}
+
 ConnectOptions parse_connect_options(const Json& options, const std::string& where) {
   ConnectOptions o;
-  OptionReader r(options, where);
-  std::vector<std::string> names;
-  for (const auto& [n, e] : kEstimators) names.push_back(n);
-  o.method_name = r.choice("method", "pearson", names);
+  SchemaReader r(options, connect_option_section(), where);
+  o.method_name = r.choice("method");
   for (const auto& [n, e] : kEstimators)
     if (n == o.method_name) o.method = e;
-  o.fisher_z = r.boolean("fisher_z", false);
+  o.fisher_z = r.boolean("fisher_z");
   if (o.fisher_z && (o.method == Estimator::plv || o.method == Estimator::pli || o.method == Estimator::wpli))
     fail(ErrorKind::argument, where + ": \"fisher_z\" applies to correlations; \"" + o.method_name +
                                   "\" is a phase consistency in [0, 1], not a correlation");
-  if (auto dt = r.number("sampling_interval")) {
-    if (!(*dt > 0)) fail(ErrorKind::argument, where + ": option \"sampling_interval\" must be positive (seconds), got " + std::to_string(*dt));
-    o.sampling_interval = *dt;
-  }
-  o.partial_basis = r.choice("partial_basis", "ledoit_wolf", {"ledoit_wolf", "oas", "shrinkage_correlation", "sample"});
+  if (auto dt = r.optional_number("sampling_interval")) o.sampling_interval = *dt;
+  o.partial_basis = r.choice("partial_basis");
   if (r.has("partial_basis") && o.method != Estimator::partial)
     fail(ErrorKind::argument, where + ": \"partial_basis\" only applies to \"method\": \"partial\"");
-  if (const Json* clean = r.raw("clean"); clean && !clean->is_null()) parse_clean(*clean, where + ".clean", o.clean);
+  if (const Json* clean = r.raw("clean")) parse_clean(*clean, where, o.clean);
 
   series::Band single;
-  bool has_single = false;
-  if (const Json* filter = r.raw("filter"); filter && !filter->is_null()) {
-    OptionReader fr(*filter, where + ".filter");
-    const std::string design = fr.choice("design", "butterworth", {"butterworth", "fft_mask"});
-    o.filter.design = design == "fft_mask" ? series::FilterDesign::fft_mask : series::FilterDesign::butterworth;
-    const long long order = fr.integer("order", 4);
-    if (order < 1 || order > 12) fail(ErrorKind::argument, where + ".filter: option \"order\" must be 1..12, got " + std::to_string(order));
+  if (const Json* filter = r.raw("filter")) {
+    SchemaReader fr(*filter, filter_option_section(), where);
+    o.filter.design = fr.choice("design") == "fft_mask" ? series::FilterDesign::fft_mask : series::FilterDesign::butterworth;
+    o.filter.order = static_cast<int>(fr.integer("order"));
     if (fr.has("order") && o.filter.design == series::FilterDesign::fft_mask)
-      fail(ErrorKind::argument, where + ".filter: \"order\" applies to the Butterworth design only");
-    o.filter.order = static_cast<int>(order);
-    if (auto low = fr.number("low_hz")) single.low = *low;
-    if (auto high = fr.number("high_hz")) single.high = *high;
-    has_single = single.has_low() || single.has_high();
+      fail(ErrorKind::argument, where + ": \"filter.order\" applies to the Butterworth design only");
+    if (auto low = fr.optional_number("low_hz")) single.low = *low;
+    if (auto high = fr.optional_number("high_hz")) single.high = *high;
     fr.finish();
   }
-  if (const Json* bands = r.raw("bands"); bands && !bands->is_null()) {
+  const bool has_single = single.has_low() || single.has_high();
+  if (const Json* bands = r.raw("bands")) {
     if (!bands->is_object() || bands->empty())
-      fail(ErrorKind::argument, where + ": option \"bands\" must be an object of named bands, e.g. {\"alpha\": [8, 13]}");
+      fail(ErrorKind::argument, where + ": \"bands\" must be an object of named bands, e.g. {\"alpha\": [8, 13]}");
     if (has_single)
       fail(ErrorKind::argument, where + ": give either \"bands\" or \"filter\".low_hz/high_hz, not both "
                                         "(\"filter\" may still set design and order)");

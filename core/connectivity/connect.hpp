@@ -9,6 +9,7 @@
 #include <string>
 #include <vector>
 
+#include "base/option_schema.hpp"
 #include "connectivity/matrix.hpp"
 #include "series/clean.hpp"
 #include "series/filter.hpp"
@@ -32,7 +33,11 @@ struct ConnectOptions {
   std::vector<series::Band> bands;  // empty: no band limiting; one unnamed band from "filter"
 };
 
-// Parses and checks the connect options (`where` names them in errors).
+// Parses and checks the connect options (`where` names them in errors). Their tables:
+const OptionSection& connect_option_section();
+const OptionSection& clean_option_section();
+const OptionSection& censor_option_section();
+const OptionSection& filter_option_section();
 ConnectOptions parse_connect_options(const nlohmann::json& options, const std::string& where);
 
 struct BandMatrix {
