@@ -7,6 +7,7 @@
 #include "cohort/options.hpp"
 #include "cohort/statistics.hpp"
 #include "guard.hpp"
+#include "output/statistics.hpp"
 #include "handles.hpp"
 
 using namespace critplex;
@@ -32,7 +33,7 @@ cpx_status cpx_stats_permutation_test(const double* a, size_t n_a, const double*
     const std::string where = "options of cpx_stats_permutation_test";
     const auto options = cohort::permutation_options_from_json(parse_options(options_json, where), where);
     const auto result = cohort::permutation_test(import_vector(a, n_a, "a"), import_vector(b, n_b, "b"), options);
-    put_json(cohort::to_json(result, options), result_json);
+    put_json(output::permutation_json(result, options), result_json);
   });
 }
 
@@ -43,7 +44,7 @@ cpx_status cpx_stats_bootstrap_band(const double* curves, size_t subjects, size_
     const std::string where = "options of cpx_stats_bootstrap_band";
     const auto options = cohort::bootstrap_options_from_json(parse_options(options_json, where), where);
     const auto band = cohort::bootstrap_mean_band(import_array(curves, subjects, points, layout), options);
-    put_json(cohort::to_json(band), result_json);
+    put_json(output::band_json(band), result_json);
   });
 }
 
@@ -55,7 +56,7 @@ cpx_status cpx_stats_cluster_test(const double* a, size_t n_a, const double* b, 
     const auto options = cohort::cluster_options_from_json(parse_options(options_json, where), where);
     const auto result =
         cohort::cluster_permutation_test(import_array(a, n_a, points, layout), import_array(b, n_b, points, layout), options);
-    put_json(cohort::to_json(result), result_json);
+    put_json(output::cluster_json(result), result_json);
   });
 }
 
@@ -96,7 +97,7 @@ cpx_status cpx_stats_compare_summaries(const char* input_json, const char* optio
     // A summary that cannot be tested is an error here: the caller gave the values.
     for (const auto& row : rows)
       if (!row.tested) fail(ErrorKind::data, "summary '" + row.summary + "': " + row.note);
-    put_json(Json{{"tests", cohort::to_json(rows, options)}}, result_json);
+    put_json(Json{{"tests", output::summary_rows_json(rows, options)}}, result_json);
   });
 }
 

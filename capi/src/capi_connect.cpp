@@ -98,27 +98,8 @@ cpx_status cpx_series_read_image(const char* image_path, const char* labels_path
   return guard("cpx_series_read_image", [&] {
     require_pointer(image_path, "image_path");
     require_pointer(out, "out");
-    const std::string where = "options of cpx_series_read_image";
-    const auto options = parse_options(options_json, where);
-    OptionReader r(options, where);
-    io::ImageOptions o;
-    o.label_names = r.text("label_names", "");
-    if (auto dt = r.number("sampling_interval")) {
-      if (!(*dt > 0)) fail(ErrorKind::argument, where + ": option \"sampling_interval\" must be positive (seconds)");
-      o.sampling_interval = *dt;
-    }
-    // A map of a CIFTI label file by name, or by number from 1 (JSON number or text).
-    if (const Json* map = r.raw("label_map")) {
-      if (map->is_string()) o.label_map = map->get<std::string>();
-      else if (map->is_number_integer() && map->get<long long>() >= 1) o.label_map = std::to_string(map->get<long long>());
-      else fail(ErrorKind::argument, where + ": option \"label_map\" must be a map name or a number from 1");
-    }
-    const long long budget_mb = r.integer("memory_budget_mb", static_cast<long long>(io::default_image_memory_budget >> 20));
-    if (budget_mb < 1 || budget_mb > (1LL << 20))
-      fail(ErrorKind::argument, where + ": option \"memory_budget_mb\" = " + std::to_string(budget_mb) +
-                                    " must be from 1 to 1048576 (MiB)");
-    o.memory_budget = static_cast<std::uint64_t>(budget_mb) << 20;
-    r.finish();
+    const io::ImageOptions o =
+        io::parse_image_options(parse_options(options_json, "options of cpx_series_read_image"), "options of cpx_series_read_image");
     auto h = std::make_unique<cpx_series>();
     h->value = io::read_image_series(image_path, labels_path ? labels_path : "", o);
     *out = h.release();

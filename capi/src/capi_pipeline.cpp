@@ -59,11 +59,10 @@ cpx_status cpx_cohort_report(const char* dir, const char* options_json, char** r
   return guard("cpx_cohort_report", [&] {
     require_pointer(dir, "dir");
     require_pointer(report_path, "report_path");
-    const Json options = parse_options(options_json, "options of cpx_cohort_report");
-    OptionReader r(options, "options of cpx_cohort_report");
-    const std::string out = r.text("out", std::string(dir) + "/report.html");
-    const std::string created = r.text("created", "");
-    r.finish();
+    const auto options = pipeline::parse_report_options(parse_options(options_json, "options of cpx_cohort_report"),
+                                                        "options of cpx_cohort_report");
+    const std::string out = options.out.empty() ? std::string(dir) + "/report.html" : options.out;
+    const std::string& created = options.created;
     const std::string source = std::string(dir) + "/group_comparison.json";
     Json comparison;
     try {

@@ -165,13 +165,8 @@ cpx_status cpx_matrix_write(const cpx_matrix* matrix, const char* path, const ch
   return guard("cpx_matrix_write", [&] {
     require_pointer(matrix, "matrix");
     require_pointer(path, "path");
-    auto options = parse_options(options_json, "options of cpx_matrix_write");
-    OptionReader r(options, "options of cpx_matrix_write");
-    std::string fallback = io::detect_format(path);
-    if (fallback == "text" || fallback == "csv") fallback = "tsv";
-    std::string format = r.choice("format", fallback, {"tsv", "json", "npy"});
-    r.finish();
-    io::write_matrix(matrix->value, path, format);
+    const std::string where = "options of cpx_matrix_write";
+    io::write_matrix(matrix->value, path, io::parse_matrix_write_format(parse_options(options_json, where), path, where));
   });
 }
 

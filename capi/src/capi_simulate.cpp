@@ -17,18 +17,7 @@ cpx_status cpx_surrogate(const cpx_series* series, const char* options_json, cpx
     require_pointer(series, "series");
     require_pointer(out, "out");
     const std::string where = "options of cpx_surrogate";
-    const Json options = parse_options(options_json, where);  // the reader keeps a reference
-    OptionReader r(options, where);
-    simulate::SurrogateOptions o;
-    o.method = simulate::surrogate_method_from_name(
-        r.choice("method", "phase_multivariate", {"phase_multivariate", "phase_independent", "iaaft"}));
-    const long long seed = r.integer("seed", 1);
-    if (seed < 0) fail(ErrorKind::argument, where + ": seed must be non-negative");
-    o.seed = static_cast<std::uint64_t>(seed);
-    const long long iterations = r.integer("iaaft_iterations", o.iaaft_iterations);
-    if (iterations < 1 || iterations > 1000000) fail(ErrorKind::argument, where + ": iaaft_iterations must be in [1, 1000000]");
-    o.iaaft_iterations = static_cast<int>(iterations);
-    r.finish();
+    const simulate::SurrogateOptions o = simulate::parse_surrogate_options(parse_options(options_json, where), where);
     auto h = std::make_unique<cpx_series>();
     h->value.values = simulate::make_surrogate(series->value.values, o).values;
     h->value.names = series->value.names;
@@ -50,14 +39,7 @@ cpx_status cpx_rewire_edges(size_t nodes, const uint32_t* edges, size_t edge_cou
       fail(ErrorKind::argument, "argument 'rewired_length' is " + std::to_string(rewired_length) + " but " +
                                     std::to_string(2 * edge_count) + " values are needed");
     const std::string where = "options of cpx_rewire_edges";
-    const Json options = parse_options(options_json, where);  // the reader keeps a reference
-    OptionReader r(options, where);
-    simulate::RewireOptions o;
-    o.swaps_per_edge = r.number("swaps_per_edge", o.swaps_per_edge);
-    const long long seed = r.integer("seed", 1);
-    if (seed < 0) fail(ErrorKind::argument, where + ": seed must be non-negative");
-    o.seed = static_cast<std::uint64_t>(seed);
-    r.finish();
+    const simulate::RewireOptions o = simulate::parse_rewire_options(parse_options(options_json, where), where);
     simulate::EdgeList list;
     for (std::size_t i = 0; i < edge_count; ++i) list.emplace_back(edges[2 * i], edges[2 * i + 1]);
     const auto result = simulate::rewire(nodes, list, o);

@@ -82,15 +82,8 @@ cpx_status cpx_random_graph_expectations(size_t nodes, const double* p, size_t c
     require_pointer(json, "json");
     if (count > 0) require_pointer(p, "p");
     if (nodes < 1) fail(ErrorKind::argument, "argument 'nodes' must be at least 1");
-    Json opts = parse_options(options_json, "options of cpx_random_graph_expectations");
-    if (opts.is_null()) opts = Json::object();
-    OptionReader r(opts, "options of cpx_random_graph_expectations");  // keeps a reference to opts
-    const bool zeros = r.boolean("zeros", true);
-    const double max_p = r.number("max_p", 1.0);
-    const long long scan = r.integer("scan_points", 2000);
-    r.finish();
-    if (scan < 10 || scan > 10000000)
-      fail(ErrorKind::argument, "options of cpx_random_graph_expectations: scan_points must be in [10, 10000000]");
+    const std::string where = "options of cpx_random_graph_expectations";
+    const transitions::ExpectationOptions options = transitions::parse_expectation_options(parse_options(options_json, where), where);
     Json out{{"nodes", nodes}, {"arithmetic", transitions::random_graph_arithmetic()}};
     Json values = Json::array();
     for (std::size_t i = 0; i < count; ++i) {
@@ -109,8 +102,8 @@ cpx_status cpx_random_graph_expectations(size_t nodes, const double* p, size_t c
                         {"kappa_reliable", k.reliable}});
     }
     out["values"] = std::move(values);
-    if (zeros && nodes >= 2) {
-      const auto z = transitions::random_graph_zeros(nodes, max_p, static_cast<std::size_t>(scan));
+    if (options.zeros && nodes >= 2) {
+      const auto z = transitions::random_graph_zeros(nodes, options.max_p, options.scan_points);
       out["zeros"] = {{"chi", z.chi_zeros},         {"chi_directions", z.chi_directions},
                       {"kappa", z.kappa_zeros},     {"kappa_directions", z.kappa_directions},
                       {"reliable_up_to", z.reliable_up_to}, {"scan_points", z.scan_points}};

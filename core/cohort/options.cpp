@@ -5,85 +5,85 @@
 
 namespace critplex::cohort {
 
-namespace {
-
-std::uint64_t positive_count(OptionReader& r, const std::string& key, std::uint64_t fallback) {
-  const long long v = r.integer(key, static_cast<long long>(fallback));
-  if (v < 1) fail(ErrorKind::argument, r.where() + ": " + key + " = " + std::to_string(v) + ", must be at least 1");
-  return static_cast<std::uint64_t>(v);
+const OptionSection& permutation_option_section() {
+  static const OptionSection section{
+      "stats.permutation",
+      "permutation options",
+      "cpx_stats_permutation_test, cpx_stats_compare_summaries",
+      "A permutation test of a difference between two groups.",
+      {{.key = "statistic", .type = "choice", .default_value = "mean_difference",
+        .choices = {"mean_difference", "welch_t", "student_t"}, .meaning = "group a minus group b"},
+       {.key = "alternative", .type = "choice", .default_value = "two_sided", .choices = {"two_sided", "less", "greater"},
+        .meaning = "two-sided p = min(1, 2 min(p_less, p_greater))"},
+       {.key = "exact_limit", .type = "integer", .default_value = 20000, .min = 1,
+        .meaning = "enumerate every relabelling when there are at most this many"},
+       {.key = "resamples", .type = "integer", .default_value = 9999, .min = 1, .meaning = "random relabellings otherwise"},
+       {.key = "seed", .type = "integer", .default_value = 1, .min = 0, .meaning = "seed of the random relabellings"}}};
+  return section;
 }
 
-std::uint64_t seed_of(OptionReader& r) {
-  const long long v = r.integer("seed", 1);
-  if (v < 0) fail(ErrorKind::argument, r.where() + ": seed = " + std::to_string(v) + ", must be non-negative");
-  return static_cast<std::uint64_t>(v);
+const OptionSection& bootstrap_option_section() {
+  static const OptionSection section{
+      "stats.bootstrap",
+      "bootstrap options",
+      "cpx_stats_bootstrap_band",
+      "A percentile bootstrap band of a mean curve, resampling subjects.",
+      {{.key = "confidence", .type = "number", .default_value = 0.95, .min = 0, .max = 1, .min_open = true,
+        .max_open = true, .meaning = "level of the pointwise interval"},
+       {.key = "resamples", .type = "integer", .default_value = 9999, .min = 1, .meaning = "bootstrap resamples"},
+       {.key = "seed", .type = "integer", .default_value = 1, .min = 0, .meaning = "seed of the resamples"}}};
+  return section;
 }
 
-}  // namespace
+const OptionSection& cluster_option_section() {
+  static const OptionSection section{
+      "stats.cluster",
+      "cluster test options",
+      "cpx_stats_cluster_test",
+      "A cluster-based permutation test along the density axis (Maris & Oostenveld 2007).",
+      {{.key = "statistic", .type = "choice", .default_value = "student_t", .choices = {"student_t", "welch_t"},
+        .meaning = "t statistic per point"},
+       {.key = "threshold", .type = "number", .default_note = "the two-sided 5% Student t quantile", .min = 0,
+        .min_open = true, .meaning = "|t| above this forms clusters"},
+       {.key = "exact_limit", .type = "integer", .default_value = 20000, .min = 1,
+        .meaning = "enumerate every relabelling when there are at most this many"},
+       {.key = "resamples", .type = "integer", .default_value = 9999, .min = 1, .meaning = "random relabellings otherwise"},
+       {.key = "seed", .type = "integer", .default_value = 1, .min = 0, .meaning = "seed of the random relabellings"}}};
+  return section;
+}
 
 PermutationOptions permutation_options_from_json(const Json& options, const std::string& where) {
-  OptionReader r(options, where);
+  SchemaReader r(options, permutation_option_section(), where);
   PermutationOptions o;
-  o.statistic = statistic_from_name(r.choice("statistic", "mean_difference", {"mean_difference", "welch_t", "student_t"}));
-  o.alternative = alternative_from_name(r.choice("alternative", "two_sided", {"two_sided", "less", "greater"}));
-  o.exact_limit = positive_count(r, "exact_limit", o.exact_limit);
-  o.resamples = positive_count(r, "resamples", o.resamples);
-  o.seed = seed_of(r);
+  o.statistic = statistic_from_name(r.choice("statistic"));
+  o.alternative = alternative_from_name(r.choice("alternative"));
+  o.exact_limit = static_cast<std::uint64_t>(r.integer("exact_limit"));
+  o.resamples = static_cast<std::uint64_t>(r.integer("resamples"));
+  o.seed = static_cast<std::uint64_t>(r.integer("seed"));
   r.finish();
   return o;
 }
 
 BootstrapOptions bootstrap_options_from_json(const Json& options, const std::string& where) {
-  OptionReader r(options, where);
+  SchemaReader r(options, bootstrap_option_section(), where);
   BootstrapOptions o;
-  o.confidence = r.number("confidence", o.confidence);
-  if (!(o.confidence > 0.0 && o.confidence < 1.0))
-    fail(ErrorKind::argument, where + ": confidence = " + std::to_string(o.confidence) + ", must be in (0, 1)");
-  o.resamples = positive_count(r, "resamples", o.resamples);
-  o.seed = seed_of(r);
+  o.confidence = r.number("confidence");
+  o.resamples = static_cast<std::uint64_t>(r.integer("resamples"));
+  o.seed = static_cast<std::uint64_t>(r.integer("seed"));
   r.finish();
   return o;
 }
 
 ClusterOptions cluster_options_from_json(const Json& options, const std::string& where) {
-  OptionReader r(options, where);
+  SchemaReader r(options, cluster_option_section(), where);
   ClusterOptions o;
-  o.statistic = statistic_from_name(r.choice("statistic", "student_t", {"student_t", "welch_t"}));
-  if (auto t = r.number("threshold")) {
-    if (!(*t > 0.0)) fail(ErrorKind::argument, where + ": threshold = " + std::to_string(*t) + ", must be positive");
-    o.threshold = *t;
-  }
-  o.exact_limit = positive_count(r, "exact_limit", o.exact_limit);
-  o.resamples = positive_count(r, "resamples", o.resamples);
-  o.seed = seed_of(r);
+  o.statistic = statistic_from_name(r.choice("statistic"));
+  if (auto t = r.optional_number("threshold")) o.threshold = *t;
+  o.exact_limit = static_cast<std::uint64_t>(r.integer("exact_limit"));
+  o.resamples = static_cast<std::uint64_t>(r.integer("resamples"));
+  o.seed = static_cast<std::uint64_t>(r.integer("seed"));
   r.finish();
   return o;
-}
-
-Json to_json(const PermutationResult& r, const PermutationOptions& options) {
-  return {{"statistic_name", statistic_name(options.statistic)},
-          {"alternative", alternative_name(options.alternative)},
-          {"statistic", r.statistic},
-          {"p_value", r.p_value},
-          {"exact", r.exact},
-          {"null_size", r.null_size},
-          {"n_a", r.n_a},
-          {"n_b", r.n_b},
-          {"mean_a", r.mean_a},
-          {"mean_b", r.mean_b},
-          {"cohen_d", r.effect.cohen_d},
-          {"hedges_g", r.effect.hedges_g},
-          {"hedges_correction", r.effect.correction},
-          {"seed", options.seed}};
-}
-
-Json to_json(const Band& band) { return {{"mean", band.mean}, {"lower", band.lower}, {"upper", band.upper}}; }
-
-Json to_json(const ClusterResult& r) {
-  Json clusters = Json::array();
-  for (const auto& c : r.clusters)
-    clusters.push_back({{"first", c.first}, {"last", c.last}, {"sign", c.sign}, {"mass", c.mass}, {"p_value", c.p_value}});
-  return {{"t", r.t}, {"threshold", r.threshold}, {"clusters", clusters}, {"exact", r.exact}, {"null_size", r.null_size}};
 }
 
 namespace {
@@ -157,19 +157,6 @@ SummaryComparisonInput summaries_from_json(const Json& input, const std::string&
   }
   r.finish();
   return in;
-}
-
-Json to_json(const std::vector<SummaryTestRow>& rows, const PermutationOptions& options) {
-  Json out = Json::array();
-  for (const auto& row : rows) {
-    Json j = to_json(row.result, options);
-    j["summary"] = row.summary;
-    j["p_adjusted"] = row.p_adjusted;
-    j["missing_a"] = row.missing_a;
-    j["missing_b"] = row.missing_b;
-    out.push_back(j);
-  }
-  return out;
 }
 
 }  // namespace critplex::cohort

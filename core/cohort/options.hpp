@@ -1,13 +1,17 @@
-// JSON options of the cohort statistics (README, "Group statistics and null models").
-// Unknown keys are errors; `where` names the argument in messages.
+// JSON options of the cohort statistics, read through their tables; unknown keys are
+// errors and `where` names the argument in messages. core/output writes the results.
 #pragma once
 
 #include <string>
 
-#include "base/options.hpp"
+#include "base/option_schema.hpp"
 #include "cohort/statistics.hpp"
 
 namespace critplex::cohort {
+
+const OptionSection& permutation_option_section();
+const OptionSection& bootstrap_option_section();
+const OptionSection& cluster_option_section();
 
 // {"statistic", "alternative", "exact_limit", "resamples", "seed"}
 PermutationOptions permutation_options_from_json(const Json& options, const std::string& where);
@@ -16,13 +20,8 @@ BootstrapOptions bootstrap_options_from_json(const Json& options, const std::str
 // {"statistic", "threshold", "exact_limit", "resamples", "seed"}
 ClusterOptions cluster_options_from_json(const Json& options, const std::string& where);
 
-Json to_json(const PermutationResult& r, const PermutationOptions& options);
-Json to_json(const Band& band);
-Json to_json(const ClusterResult& r);
-
 // {"summaries": [{"name", "a": [...], "b": [...]}], "covariates": [{"name", "a", "b"}]}
 // (covariates optional; null in a summary list marks a missing value).
 SummaryComparisonInput summaries_from_json(const Json& input, const std::string& where);
-Json to_json(const std::vector<SummaryTestRow>& rows, const PermutationOptions& options);
 
 }  // namespace critplex::cohort

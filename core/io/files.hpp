@@ -7,6 +7,7 @@
 #include <string>
 #include <vector>
 
+#include "base/option_schema.hpp"
 #include "connectivity/matrix.hpp"
 #include "series/series.hpp"
 
@@ -48,6 +49,9 @@ connectivity::Matrix read_matrix(const std::string& path, const nlohmann::json& 
 // ({"names", "values", "info"}) or NPY (float64, C order).
 std::string format_matrix(const connectivity::Matrix& m, const std::string& format);
 void write_matrix(const connectivity::Matrix& m, const std::string& path, const std::string& format);
+// The writing options ({"format"}; default from the extension of `path`) and their table.
+const OptionSection& matrix_write_option_section();
+std::string parse_matrix_write_format(const nlohmann::json& options, const std::string& path, const std::string& where);
 
 // NPY encoding of a row-major float64 2-D array (NumPy format version 1.0).
 std::string encode_npy(const Eigen::MatrixXd& values);

@@ -11,6 +11,8 @@
 #include <map>
 #include <string>
 
+#include "base/option_schema.hpp"
+
 #include "series/series.hpp"
 
 namespace critplex::io {
@@ -31,6 +33,11 @@ struct ImageOptions {
 // to 2^53, labels listed in the table with no voxels, labels missing from the table.
 series::Series read_image_series(const std::string& image_path, const std::string& labels_path,
                                  const ImageOptions& options);
+
+// The image reading options (label_names, sampling_interval, label_map, memory_budget_mb)
+// and their table.
+const OptionSection& image_option_section();
+ImageOptions parse_image_options(const Json& options, const std::string& where);
 
 // A TSV of label index and name (optional header row; a BIDS-style header names the
 // columns "index" and "name"). Indices are whole numbers from 1 to 2^53; names are

@@ -5,16 +5,13 @@
 
 #include "base/error.hpp"
 #include "output/format.hpp"
+#include "output/statistics.hpp"
 
 namespace critplex::output {
 
 namespace {
 
 const double nan_value = std::numeric_limits<double>::quiet_NaN();
-
-Json band_json(const cohort::Band& b) {
-  return {{"mean", numbers_or_null(b.mean)}, {"lower", numbers_or_null(b.lower)}, {"upper", numbers_or_null(b.upper)}};
-}
 
 Json options_json(const pipeline::CompareOptions& o) {
   return {{"band", o.band},         {"groups", o.groups},         {"statistic", o.statistic},

@@ -132,12 +132,24 @@ std::vector<ManifestRow> read_manifest(const std::string& path) {
   return rows;
 }
 
+const OptionSection& cohort_option_section() {
+  static const OptionSection section{
+      "cohort",
+      "cohort options",
+      "cpx_cohort_run, critplex cohort --workers/--force",
+      "How a cohort run uses the machine and what it redoes.",
+      {{.key = "workers", .type = "integer", .default_value = 0, .default_note = "0 = one per core", .min = 0, .max = 256,
+        .meaning = "subjects run at once; each engine of a subject then gets at most cores / workers threads"},
+       {.key = "force", .type = "boolean", .default_value = false,
+        .meaning = "recompute subjects whose inputs, options and version are unchanged since their last run"}}};
+  return section;
+}
+
 CohortOptions parse_cohort_options(const Json& options) {
-  OptionReader r(options, "cohort options");
+  SchemaReader r(options, cohort_option_section());
   CohortOptions o;
-  o.workers = static_cast<int>(r.integer("workers", 0));
-  if (o.workers < 0 || o.workers > 256) fail(ErrorKind::argument, "cohort options: \"workers\" must be in [0, 256]");
-  o.force = r.boolean("force", false);
+  o.workers = static_cast<int>(r.integer("workers"));
+  o.force = r.boolean("force");
   r.finish();
   return o;
 }

@@ -7,7 +7,7 @@
 #include <string>
 #include <vector>
 
-#include "base/options.hpp"
+#include "base/option_schema.hpp"
 #include "pipeline/subject.hpp"
 
 namespace critplex::pipeline {
@@ -30,6 +30,7 @@ struct CohortOptions {
   int workers = 0;       // subjects run at once (0: one per core)
   bool force = false;    // recompute finished subjects
 };
+const OptionSection& cohort_option_section();
 CohortOptions parse_cohort_options(const Json& options);
 
 struct SubjectOutcome {

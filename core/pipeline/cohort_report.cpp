@@ -117,4 +117,24 @@ std::string report_html(const Comparison& c, const std::string& created) {
   return report::build_report(in);
 }
 
+const OptionSection& report_option_section() {
+  static const OptionSection section{
+      "report",
+      "report options",
+      "cpx_cohort_report, critplex report",
+      "The HTML report of a comparison.",
+      {{.key = "out", .type = "string", .default_note = "<dir>/report.html", .meaning = "where the report is written"},
+       {.key = "created", .type = "string", .meaning = "text shown as the creation date (core has no clock)"}}};
+  return section;
+}
+
+ReportOptions parse_report_options(const Json& options, const std::string& where) {
+  SchemaReader r(options, report_option_section(), where);
+  ReportOptions o;
+  o.out = r.text("out");
+  o.created = r.text("created");
+  r.finish();
+  return o;
+}
+
 }  // namespace critplex::pipeline

@@ -83,4 +83,11 @@ Comparison compare_and_write(const std::string& dir, const CompareOptions& optio
 // caller (core has no clock).
 std::string report_html(const Comparison& comparison, const std::string& created);
 
+struct ReportOptions {
+  std::string out;      // "" = <dir>/report.html
+  std::string created;  // shown as the creation date
+};
+const OptionSection& report_option_section();
+ReportOptions parse_report_options(const Json& options, const std::string& where);
+
 }  // namespace critplex::pipeline

@@ -141,11 +141,8 @@ std::string subject_fingerprint(const SubjectConfig& c, const Json& checksums) {
 namespace {
 series::Series read_input_series(const SubjectConfig& config) {
   if (!config.timeseries.empty()) return io::read_series(config.timeseries, config.read_options);
-  OptionReader rr(config.read_options, "subject config: read");
-  io::ImageOptions image_options;
-  image_options.label_names = config.label_names;
-  if (auto dt = rr.number("sampling_interval")) image_options.sampling_interval = *dt;
-  rr.finish();
+  io::ImageOptions image_options = io::parse_image_options(config.read_options, "subject config: read");
+  if (!config.label_names.empty()) image_options.label_names = config.label_names;
   return io::read_image_series(config.image, config.labels, image_options);
 }
 }  // namespace

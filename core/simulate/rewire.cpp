@@ -89,4 +89,25 @@ RewireResult rewire_prefix(const filtration::Filtration& f, std::size_t edge_cou
   return rewire(f.nodes, edges, options);
 }
 
+const OptionSection& rewire_option_section() {
+  static const OptionSection section{
+      "rewire",
+      "rewiring options",
+      "cpx_rewire_edges",
+      "Degree-preserving rewiring (Maslov & Sneppen 2002).",
+      {{.key = "swaps_per_edge", .type = "number", .default_value = 10.0, .min = 0, .min_open = true,
+        .meaning = "successful swaps asked for, per edge (at most 100 proposals per requested swap)"},
+       {.key = "seed", .type = "integer", .default_value = 1, .min = 0, .meaning = "seed of the swaps"}}};
+  return section;
+}
+
+RewireOptions parse_rewire_options(const Json& options, const std::string& where) {
+  SchemaReader r(options, rewire_option_section(), where);
+  RewireOptions o;
+  o.swaps_per_edge = r.number("swaps_per_edge");
+  o.seed = static_cast<std::uint64_t>(r.integer("seed"));
+  r.finish();
+  return o;
+}
+
 }  // namespace critplex::simulate

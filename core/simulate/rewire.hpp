@@ -8,6 +8,7 @@
 #include <utility>
 #include <vector>
 
+#include "base/option_schema.hpp"
 #include "filtration/filtration.hpp"
 
 namespace critplex::simulate {
@@ -18,6 +19,10 @@ struct RewireOptions {
   double swaps_per_edge = 10.0;  // successful swaps asked for, per edge
   std::uint64_t seed = 1;
 };
+
+// The options of cpx_rewire_edges ({"swaps_per_edge", "seed"}) and their table.
+const OptionSection& rewire_option_section();
+RewireOptions parse_rewire_options(const Json& options, const std::string& where);
 
 struct RewireResult {
   EdgeList edges;               // same count and same degrees as the input, each u < v, sorted

@@ -118,4 +118,30 @@ SurrogateResult make_surrogate(const Eigen::MatrixXd& values, const SurrogateOpt
   return result;
 }
 
+const OptionSection& surrogate_option_section() {
+  static const OptionSection section{
+      "surrogate",
+      "surrogate options",
+      "cpx_surrogate",
+      "A surrogate series: the same amplitude spectra, randomised phases.",
+      {{.key = "method", .type = "choice", .default_value = "phase_multivariate",
+        .choices = {"phase_multivariate", "phase_independent", "iaaft"},
+        .meaning = "the same random phase at each frequency in every region (keeps every cross-spectrum), independent "
+                   "phases per region (destroys coupling), or IAAFT per region (keeps the sorted values too)"},
+       {.key = "seed", .type = "integer", .default_value = 1, .min = 0, .meaning = "seed of the phases"},
+       {.key = "iaaft_iterations", .type = "integer", .default_value = 100, .min = 1, .max = 1000000,
+        .meaning = "IAAFT iterations (stops early at a fixed point)"}}};
+  return section;
+}
+
+SurrogateOptions parse_surrogate_options(const Json& options, const std::string& where) {
+  SchemaReader r(options, surrogate_option_section(), where);
+  SurrogateOptions o;
+  o.method = surrogate_method_from_name(r.choice("method"));
+  o.seed = static_cast<std::uint64_t>(r.integer("seed"));
+  o.iaaft_iterations = static_cast<int>(r.integer("iaaft_iterations"));
+  r.finish();
+  return o;
+}
+
 }  // namespace critplex::simulate

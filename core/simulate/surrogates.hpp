@@ -18,6 +18,8 @@
 #include <cstdint>
 #include <string>
 
+#include "base/option_schema.hpp"
+
 namespace critplex::simulate {
 
 enum class SurrogateMethod { phase_multivariate, phase_independent, iaaft };
@@ -37,5 +39,9 @@ struct SurrogateResult {
 
 // values: T >= 3 frames x N >= 1 regions, finite.
 SurrogateResult make_surrogate(const Eigen::MatrixXd& values, const SurrogateOptions& options);
+
+// The options of cpx_surrogate ({"method", "seed", "iaaft_iterations"}) and their table.
+const OptionSection& surrogate_option_section();
+SurrogateOptions parse_surrogate_options(const Json& options, const std::string& where);
 
 }  // namespace critplex::simulate

@@ -277,4 +277,28 @@ RandomGraphZeros random_graph_zeros(std::size_t nodes, double max_p, std::size_t
   return out;
 }
 
+const OptionSection& expectation_option_section() {
+  static const OptionSection section{
+      "random_graph",
+      "random-graph options",
+      "cpx_random_graph_expectations",
+      "The Erdos-Renyi closed forms E[chi] and E[kappa] in extended precision, and their zeros.",
+      {{.key = "zeros", .type = "boolean", .default_value = true, .meaning = "also the zeros of E[chi] and E[kappa]"},
+       {.key = "max_p", .type = "number", .default_value = 1.0, .min = 0, .max = 1, .min_open = true,
+        .meaning = "largest p of the zero search"},
+       {.key = "scan_points", .type = "integer", .default_value = 2000, .min = 10, .max = 10000000,
+        .meaning = "points of the scan that brackets the zeros"}}};
+  return section;
+}
+
+ExpectationOptions parse_expectation_options(const Json& options, const std::string& where) {
+  SchemaReader r(options, expectation_option_section(), where);
+  ExpectationOptions o;
+  o.zeros = r.boolean("zeros");
+  o.max_p = r.number("max_p");
+  o.scan_points = static_cast<std::size_t>(r.integer("scan_points"));
+  r.finish();
+  return o;
+}
+
 }  // namespace critplex::transitions

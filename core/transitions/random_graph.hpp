@@ -24,6 +24,8 @@
 #include <string>
 #include <vector>
 
+#include "base/option_schema.hpp"
+
 namespace critplex::transitions {
 
 struct RandomGraphValue {
@@ -49,5 +51,14 @@ RandomGraphZeros random_graph_zeros(std::size_t nodes, double max_p, std::size_t
 
 // Name of the arithmetic, for reports.
 const char* random_graph_arithmetic();
+
+// The options of cpx_random_graph_expectations and their table.
+struct ExpectationOptions {
+  bool zeros = true;               // also the zeros of E[chi] and E[kappa]
+  double max_p = 1.0;              // largest p of the zero search
+  std::size_t scan_points = 2000;  // scan grid of the zero search
+};
+const OptionSection& expectation_option_section();
+ExpectationOptions parse_expectation_options(const Json& options, const std::string& where);
 
 }  // namespace critplex::transitions
