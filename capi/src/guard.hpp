@@ -52,6 +52,10 @@ inline cpx_layout check_layout(cpx_layout layout) {
 // A malloc'ed copy, released by cpx_string_free.
 char* copy_string(const std::string& text);
 
+// The two-call shape of newer calls: *needed = size with the terminating NUL; out NULL
+// with capacity 0 asks only the size; a short buffer is ErrorKind::buffer, untouched.
+void copy_to_buffer(const std::string& text, char* out, std::size_t capacity, std::size_t* needed);
+
 // Wraps a C progress callback for the core: returns true when the caller wants to stop.
 struct Progress {
   cpx_progress_fn fn = nullptr;

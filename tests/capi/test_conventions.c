@@ -5,6 +5,7 @@
 #include <math.h>
 #include <pthread.h>
 #include <stdio.h>
+#include <stdlib.h>
 #include <string.h>
 
 #include "check.h"
@@ -97,6 +98,29 @@ int main(void) {
   pthread_join(th1, &res1);
   pthread_join(th2, &res2);
   EXPECT(res1 == NULL && res2 == NULL);
+
+  /* The two-call shape of cpx_build_info and cpx_options_schema: ask the size, then copy;
+   * a short buffer is CPX_ERR_BUFFER and stays untouched. */
+  {
+    size_t needed = 0, again = 0;
+    char small[4] = {'x', 'x', 'x', 0};
+    char* text;
+    EXPECT(cpx_build_info(NULL, 0, &needed) == CPX_OK && needed > 10);
+    EXPECT(cpx_build_info(small, sizeof small, &again) == CPX_ERR_BUFFER && again == needed);
+    EXPECT(strcmp(small, "xxx") == 0);
+    text = (char*)malloc(needed);
+    EXPECT(cpx_build_info(text, needed, &again) == CPX_OK && strlen(text) + 1 == needed);
+    EXPECT(strstr(text, "\"abi\":") != NULL && strstr(text, cpx_version()) != NULL);
+    free(text);
+    EXPECT(cpx_build_info(NULL, 0, NULL) == CPX_ERR_ARGUMENT);
+    EXPECT(cpx_options_schema("sweep.cliques", NULL, 0, &needed) == CPX_OK);
+    text = (char*)malloc(needed);
+    EXPECT(cpx_options_schema("sweep.cliques", text, needed, &again) == CPX_OK);
+    EXPECT(strstr(text, "\"sweep.cliques\"") != NULL && strstr(text, "\"max_dimension\"") != NULL);
+    free(text);
+    EXPECT(cpx_options_schema("no.such.section", NULL, 0, &needed) == CPX_ERR_ARGUMENT);
+    EXPECT(strstr(cpx_last_error(), "sweep.cliques") != NULL);
+  }
 
   cpx_series_free(a);
   cpx_series_free(b);

@@ -85,6 +85,29 @@ CPX_API const char* cpx_status_name(cpx_status status);
 /* Releases a string the library allocated; NULL is allowed. */
 CPX_API void cpx_string_free(char* text);
 
+/* cpx_build_info: what the loaded library was built with, as a JSON object:
+ *   {"version", "abi", "compiler", "cplusplus", "assertions", "instruction_paths": [...],
+ *    "threads"}; instruction_paths lists the optional CPU paths this machine takes
+ *   ("popcnt", "bmi2").
+ * Two-call shape (shared by every call that fills a caller's text buffer):
+ *   call with out = NULL, capacity = 0 to get *needed (bytes including the final NUL);
+ *   then call with a buffer of at least *needed bytes. *needed is always set.
+ * Ownership: the caller owns `out`; nothing is allocated.
+ * Returns CPX_OK, CPX_ERR_BUFFER (capacity < *needed; `out` untouched),
+ *   CPX_ERR_ARGUMENT (`needed` NULL, or `out` NULL with capacity > 0).
+ * Threads: safe from any thread. Since 0.2. */
+CPX_API cpx_status cpx_build_info(char* out, size_t capacity, size_t* needed);
+
+/* cpx_options_schema: the reference of every option key the library reads, as JSON:
+ *   [{"name", "where", "used_by", "summary", "keys": [{"key", "type", "default",
+ *     "default_note"?, "choices"?, "range"?, "meaning"}]}].
+ * `section` NULL or "" gives every section, else one section by its dotted name
+ * ("sweep.cliques"); an unknown name is CPX_ERR_ARGUMENT listing the known ones.
+ * The parsers read the same tables, so this is what they accept.
+ * Two-call shape as cpx_build_info. Returns CPX_OK, CPX_ERR_BUFFER, CPX_ERR_ARGUMENT.
+ * Threads: safe from any thread. Since 0.2. */
+CPX_API cpx_status cpx_options_schema(const char* section, char* out, size_t capacity, size_t* needed);
+
 /* ------------------------------------------------------------------------------------ */
 /* Time series: T frames (rows) by N regions (columns)                                   */
 /* ------------------------------------------------------------------------------------ */
