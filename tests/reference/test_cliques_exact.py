@@ -168,5 +168,69 @@ class CommandLine(unittest.TestCase):
             self.assertEqual([f for f in os.listdir(self.tmp.name) if f != "bad.tsv"], [], what)
 
 
+class PastTwoToThe127(unittest.TestCase):
+    """A nested growing clique whose counts pass the signed 128-bit range.
+
+    Edges enter in the order of (max(i, j), min(i, j)), so after e = C(m, 2) + r edges
+    (0 <= r < m) the graph is the complete graph on nodes 0..m-1 plus node m joined to
+    nodes 0..r-1; its k-node cliques are C(m, k) + C(r, k - 1) (k >= 2), computed here with
+    Python's unbounded integers (math.comb). C(132, 66) > 2^127 - 1, so the sweep over 140
+    regions must stop with "count_overflow" exactly at the first grid point whose counts
+    (or the alternating sums that give chi) leave the 128-bit range, with every earlier
+    point exact."""
+
+    def test_count_overflow_is_reported_not_wrapped(self):
+        n = 140
+        limit = 2**127 - 1
+        with tempfile.TemporaryDirectory() as tmp:
+            m = np.eye(n)
+            for i in range(n):
+                for j in range(n):
+                    if i != j:
+                        m[i, j] = 1.0 - (max(i, j) * n + min(i, j)) / n**2
+            path = os.path.join(tmp, "nested.tsv")
+            np.savetxt(path, m, delimiter="\t")
+            out = os.path.join(tmp, "nested.json")
+            r = run_cli("sweep", path, "--out", out)
+            self.assertEqual(r.returncode, 0, r.stderr)
+            with open(out) as f:
+                doc = json.load(f)
+        cliques = doc["cliques"]
+        self.assertEqual(cliques["stopped_by"], "count_overflow")
+
+        def exact_counts(edges):
+            k_nodes = int((1 + math.isqrt(1 + 8 * edges)) // 2)
+            while math.comb(k_nodes, 2) > edges:
+                k_nodes -= 1
+            r = edges - math.comb(k_nodes, 2)
+            counts = [n] + [math.comb(k_nodes, k) + math.comb(r, k - 1) for k in range(2, k_nodes + 2)]
+            while counts and counts[-1] == 0:
+                counts.pop()
+            return counts
+
+        def fits(counts):
+            s = 0
+            for k, c in enumerate(counts):
+                s = s + c if k % 2 == 0 else s - c
+                if c > limit or not (-limit - 1 <= s <= limit):
+                    return False
+            return True
+
+        first_bad = None
+        for g, point in enumerate(cliques["points"]):
+            edges = doc["grid"][g]["edges"]
+            expected = exact_counts(edges)
+            if first_bad is None and not fits(expected):
+                first_bad = g
+            if point["complete"]:
+                self.assertIsNone(first_bad, f"point {g} reported although counts overflow")
+                self.assertEqual([int(c) for c in point["counts"]], expected, f"point {g}")
+                chi = sum((-1) ** k * c for k, c in enumerate(expected))
+                self.assertEqual(int(point["chi"]), chi)
+            else:
+                self.assertIsNone(point["chi"])
+        self.assertEqual(first_bad, cliques["complete_points"], "the stop is at the first point out of range")
+
+
 if __name__ == "__main__":
     unittest.main()
