@@ -111,6 +111,17 @@ GridCounts count_on_grid(const filtration::Filtration& f, const std::vector<filt
   const std::uint64_t max_work = o.max_work > 0 ? static_cast<std::uint64_t>(std::min(o.max_work, 1.8e19)) : 0;
   std::atomic<std::size_t> next_chunk{0};
   std::atomic<bool> cancel{false};
+  // max_seconds: past the deadline the workers stop as with a budget; the points
+  // completed in order are kept.
+  std::atomic<bool> out_of_time{false};
+  const auto deadline = std::chrono::steady_clock::now() +
+                        std::chrono::duration_cast<std::chrono::steady_clock::duration>(
+                            std::chrono::duration<double>(o.max_seconds > 0 ? std::min(o.max_seconds, 1e9) : 0.0));
+  auto time_spent = [&]() {
+    if (o.max_seconds <= 0) return false;
+    if (!out_of_time.load(std::memory_order_relaxed) && std::chrono::steady_clock::now() > deadline) out_of_time = true;
+    return out_of_time.load(std::memory_order_relaxed);
+  };
   std::atomic<std::size_t> edges_done{0};
   std::mutex failure_mutex;
   std::exception_ptr failure;
@@ -151,14 +162,14 @@ GridCounts count_on_grid(const filtration::Filtration& f, const std::vector<filt
         const std::size_t c = next_chunk.fetch_add(1);
         if (c >= chunk_count) break;
         Chunk& chunk = chunks[c];
-        if (cancel || beyond_budget(c, 0)) continue;
+        if (cancel || time_spent() || beyond_budget(c, 0)) continue;
         std::uint64_t chunk_work = 0;
         std::uint64_t edge_start_work = 0;
         IntervalTally* tally = nullptr;
         const std::function<bool()> poll = [&]() {
           chunk.work.store(chunk_work + (tally->work - edge_start_work), std::memory_order_relaxed);
           if (t == 0) report(false);
-          return cancel.load() || beyond_budget(c, chunk_work + (tally->work - edge_start_work));
+          return cancel.load() || time_spent() || beyond_budget(c, chunk_work + (tally->work - edge_start_work));
         };
         bool stopped = false;
         for (std::size_t e = chunk.begin; e < chunk.end && !stopped; ++e) {
@@ -183,9 +194,7 @@ GridCounts count_on_grid(const filtration::Filtration& f, const std::vector<filt
                 // empty clique's term.
                 ++tally->edges;
                 const int128 change = -euler.link_sum(graph, u, v, tally->work, poll);
-                if (change < INT64_MIN || change > INT64_MAX ||
-                    __builtin_add_overflow(tally->chi_delta, static_cast<std::int64_t>(change), &tally->chi_delta))
-                  tally->overflow = true;
+                if (__builtin_add_overflow(tally->chi_delta, change, &tally->chi_delta)) tally->overflow = true;
               } else {
                 counter.count_edge(graph, u, v, *tally, poll);
               }
@@ -199,7 +208,7 @@ GridCounts count_on_grid(const filtration::Filtration& f, const std::vector<filt
           chunk.done_until.store(e + 1);
           edges_done.fetch_add(1);
           if (t == 0) report(false);
-          if ((e & 63) == 0 && (cancel || beyond_budget(c, chunk_work))) stopped = true;
+          if ((e & 63) == 0 && (cancel || time_spent() || beyond_budget(c, chunk_work))) stopped = true;
         }
         chunk.work.store(chunk_work);
       }
@@ -250,14 +259,14 @@ GridCounts count_on_grid(const filtration::Filtration& f, const std::vector<filt
   };
   for (std::size_t i = 0; i < intervals; ++i) {
     if (checkpoints[i] > completed) {
-      if (reason.empty()) reason = "max_work";
+      if (reason.empty()) reason = out_of_time ? "max_seconds" : "max_work";
       reached_intervals = i;
       break;
     }
     std::uint64_t interval_work = 0;
     bool truncated = false, overflow = false;
     std::vector<int128> delta;
-    std::int64_t chi_delta = 0;
+    int128 chi_delta = 0;
     std::uint64_t edges = 0;
     for (unsigned t = 0; t < threads; ++t) {
       const IntervalTally* tally = tallies[t][i].get();
@@ -265,7 +274,7 @@ GridCounts count_on_grid(const filtration::Filtration& f, const std::vector<filt
       interval_work += tally->work;
       truncated |= tally->truncated;
       overflow |= tally->overflow;
-      chi_delta += tally->chi_delta;
+      if (__builtin_add_overflow(chi_delta, tally->chi_delta, &chi_delta)) overflow = true;
       edges += tally->edges;
       for (std::size_t h = 0; h < tally->rows; ++h)
         for (std::size_t p = 0; p < tally->stride; ++p) {
@@ -303,7 +312,7 @@ GridCounts count_on_grid(const filtration::Filtration& f, const std::vector<filt
       break;
     }
     if (o.chi_only) {
-      if (__builtin_add_overflow(chi, static_cast<int128>(chi_delta), &chi)) {
+      if (__builtin_add_overflow(chi, chi_delta, &chi)) {
         if (reason.empty()) reason = "count_overflow";
         reached_intervals = i;
         break;

@@ -18,6 +18,7 @@
 
 #include <cstddef>
 #include <functional>
+#include <optional>
 #include <string>
 #include <vector>
 
@@ -34,6 +35,8 @@ struct Options {
   int threads = 0;         // 0: all cores
   bool node_counts = false;
   bool chi_only = false;
+  std::optional<double> max_density;  // the engine's own range (pipeline/sweep.cpp cuts the grid)
+  double max_seconds = 0;              // 0: none; else wall time after which the engine stops
   // Internal (set by the sweep, not an option key): node curvature straight from the
   // pivoting tree's leaves (GridCounts::curvature_*), one addition per node of a leaf.
   bool node_curvature = false;
@@ -50,7 +53,7 @@ struct GridCounts {
   std::vector<int128> chi;                   // [grid point]
   std::vector<std::vector<std::vector<int128>>> node_counts;  // [grid point][node][k]: k-simplices containing the node (k=0 gives 1); filled when requested
   std::size_t complete_points = 0;           // grid points fully computed (a budget may stop earlier)
-  std::string stopped_by;                    // "" when complete, else "max_work", "max_dimension" (when it truncates counts), "count_overflow"
+  std::string stopped_by;                    // "" when complete, else "max_work", "max_dimension" (when it truncates counts), "count_overflow", "max_seconds"
   // Points at index >= complete_points: counts[k] exact for k <= max_dimension when
   // stopped_by is "max_dimension" (chi is then not exact); empty vectors otherwise.
   std::size_t complete_edges = 0;            // edges of the filtration fully processed

@@ -21,7 +21,13 @@ const OptionSection& option_section() {
        {.key = "chi_only", .type = "boolean", .default_value = false,
         .meaning = "only chi (and Cl_0, Cl_1): much faster, since chi needs only part of the counting tree"},
        {.key = "node_counts", .type = "boolean", .default_value = false,
-        .meaning = "also Cl_{i,k}, the k-simplices containing region i, per grid point (JSON only)"}}};
+        .meaning = "also Cl_{i,k}, the k-simplices containing region i, per grid point (JSON only)"},
+       {.key = "max_density", .type = "number", .default_note = "the sweep's max_density", .min = 0, .max = 1,
+        .min_open = true, .meaning = "this engine's own range: counts stop at the last grid point at or below it (columns beyond are n/a)"},
+       {.key = "max_seconds", .type = "number", .default_value = 0.0, .default_note = "0 = none", .min = 0,
+        .meaning = "stop when this much wall time is spent; everything up to the last complete grid point is "
+                   "returned and the result says so (stopped_by \"max_seconds\"); unlike max_work, where it stops "
+                   "depends on the machine"}}};
   return section;
 }
 
@@ -35,6 +41,8 @@ Options parse_options(const Json& section) {
   o.threads = static_cast<int>(r.integer("threads"));
   o.node_counts = r.boolean("node_counts");
   o.chi_only = r.boolean("chi_only");
+  o.max_density = r.optional_number("max_density");
+  o.max_seconds = r.number("max_seconds");
   r.finish();
   if (o.chi_only && o.node_counts)
     fail(ErrorKind::argument,

@@ -81,7 +81,7 @@ struct IntervalTally {
   std::vector<std::uint64_t> leaves;   // [h * stride + p]
   std::size_t stride = 0;              // allocated p range
   std::size_t rows = 0;                // allocated h range
-  std::int64_t chi_delta = 0;          // chi_only: sum over the edges of -f(link) (link_euler.hpp)
+  int128 chi_delta = 0;          // chi_only: sum over the edges of -f(link) (link_euler.hpp)
   std::uint64_t work = 0;              // tree nodes visited (+1 per edge)
   std::uint64_t edges = 0;             // edges processed in this interval
   bool truncated = false;              // a clique above max_dimension was skipped

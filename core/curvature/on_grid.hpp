@@ -4,6 +4,7 @@
 // Gauss-Bonnet check (core/output writes the columns and the JSON section).
 #pragma once
 
+#include <optional>
 #include <string>
 #include <vector>
 
@@ -26,6 +27,9 @@ struct Options {
   std::size_t max_bins = 60;
   std::vector<double> node_range;    // [lo, hi] for kappa (fixed bins only)
   std::vector<double> forman_range;  // [lo, hi] for Forman-Ricci (fixed bins only)
+  // The engine's own range. Below the clique engine's (or with cliques.chi_only) the
+  // sweep runs a second, full clique count to this density only (pipeline/sweep.cpp).
+  std::optional<double> max_density;
 };
 // The "curvature" section of the sweep options; its table: option_section().
 const OptionSection& option_section();

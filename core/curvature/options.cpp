@@ -22,7 +22,11 @@ const OptionSection& option_section() {
        {.key = "max_bins", .type = "integer", .default_value = 60, .min = 1, .max = 100000,
         .meaning = "cap on the number of automatic bins"},
        {.key = "range", .type = "numbers", .meaning = "[lo, hi] of the node curvature histogram (fixed bins only)"},
-       {.key = "forman_range", .type = "numbers", .meaning = "[lo, hi] of the Forman-Ricci histogram (fixed bins only)"}}};
+       {.key = "forman_range", .type = "numbers", .meaning = "[lo, hi] of the Forman-Ricci histogram (fixed bins only)"},
+       {.key = "max_density", .type = "number", .default_note = "the clique engine's", .min = 0, .max = 1,
+        .min_open = true,
+        .meaning = "this engine's own range; below the clique engine's (or with cliques.chi_only) a separate full "
+                   "count runs to this density only, so chi can go further than the costly every-size counts"}}};
   return section;
 }
 
@@ -38,7 +42,7 @@ Options parse_options(const Json& section) {
     const OptionKey& e = option_section().entry("bins");
     if (b->is_string() && b->get<std::string>() == "auto") {
       o.auto_bins = true;
-    } else if (b->is_number_integer() && b->get<long long>() >= *e.min && b->get<long long>() <= *e.max) {
+    } else if (b->is_number_integer() && static_cast<double>(b->get<long long>()) >= *e.min && static_cast<double>(b->get<long long>()) <= *e.max) {
       o.auto_bins = false;
       o.bins = static_cast<std::size_t>(b->get<long long>());
     } else {
@@ -48,6 +52,7 @@ Options parse_options(const Json& section) {
   o.max_bins = static_cast<std::size_t>(r.integer("max_bins"));
   o.node_range = r.numbers("range");
   o.forman_range = r.numbers("forman_range");
+  o.max_density = r.optional_number("max_density");
   r.finish();
   for (const auto* range : {&o.node_range, &o.forman_range})
     if (!range->empty() && (range->size() != 2 || !((*range)[0] < (*range)[1])))

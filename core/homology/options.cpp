@@ -14,7 +14,9 @@ const OptionSection& option_section() {
        {.key = "max_work", .type = "number", .default_value = 0.0, .default_note = "0 = none", .min = 0,
         .meaning = "budget in cofacets visited; dimensions finished before the stop stay complete"},
        {.key = "threads", .type = "integer", .default_value = 0, .default_note = "0 = every core", .min = 0,
-        .max = 1024, .meaning = "threads for enumerating simplices; results do not depend on it"}}};
+        .max = 1024, .meaning = "threads for enumerating simplices; results do not depend on it"},
+       {.key = "max_density", .type = "number", .default_note = "the sweep's max_density", .min = 0, .max = 1,
+        .min_open = true, .meaning = "this engine's own range: bars and Betti curves of the filtration cut at the last grid point at or below it (columns beyond are n/a)"}}};
   return section;
 }
 
@@ -26,6 +28,7 @@ Options parse_options(const Json& section) {
   o.max_dimension = static_cast<int>(r.integer("max_dimension"));
   o.max_work = r.number("max_work");
   o.threads = static_cast<int>(r.integer("threads"));
+  o.max_density = r.optional_number("max_density");
   r.finish();
   return o;
 }

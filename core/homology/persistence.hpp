@@ -11,6 +11,7 @@
 
 #include <cstddef>
 #include <functional>
+#include <optional>
 #include <string>
 #include <vector>
 
@@ -24,6 +25,7 @@ struct Options {
   int max_dimension = 2;  // bars in dimensions 0..max_dimension
   double max_work = 0;    // budget in cofacets visited; 0 = no limit
   int threads = 0;        // threads for enumerating simplices; 0 = every core
+  std::optional<double> max_density;  // the engine's own range (pipeline/sweep.cpp cuts the filtration)
 };
 
 // Reads the "homology" section of the sweep options: {"max_dimension", "max_work",

@@ -90,13 +90,58 @@ filtration::GridSpec parse_grid(const Json& g, double max_density) {
 
 bool turned_off(const Json* section) { return section != nullptr && section->is_boolean() && !section->get<bool>(); }
 
+// What an engine with its own maximum density sees: the grid points up to it, and the
+// filtration cut after the last of them (a tie-group end, so the cut splits no tie).
+// `cut` is empty when the engine's range is the whole sweep.
+struct EngineRange {
+  std::vector<filtration::GridPoint> grid;
+  std::optional<filtration::Filtration> cut;
+  const filtration::Filtration& filtration(const filtration::Filtration& whole) const { return cut ? *cut : whole; }
+};
+
+EngineRange engine_range(const filtration::Filtration& f, const std::vector<filtration::GridPoint>& grid,
+                         std::optional<double> max_density) {
+  EngineRange range;
+  if (!max_density) {
+    range.grid = grid;
+    return range;
+  }
+  constexpr double kDensitySlack = 1e-12;  // a grid point asked at exactly the limit is inside
+  for (const auto& p : grid)
+    if (p.density <= *max_density + kDensitySlack) range.grid.push_back(p);
+  const std::size_t last_edges = range.grid.empty() ? 0 : range.grid.back().edges;
+  if (range.grid.size() < grid.size() || last_edges < f.edges.size()) {
+    range.cut = f;
+    range.cut->edges.resize(std::min(last_edges, f.edges.size()));
+  }
+  return range;
+}
+
+void check_engine_range(const std::optional<double>& engine, double sweep, const std::string& key) {
+  if (engine && *engine > sweep)
+    fail(ErrorKind::argument, "sweep options: \"" + key + "\" (" + quoted_value(Json(*engine)) +
+                                  ") is beyond the sweep's max_density (" + quoted_value(Json(sweep)) + ")");
+}
+
+// An engine run over a shorter grid, stretched back to the whole grid: the points past
+// its range are incomplete (empty), and the result says why ("max_density").
+void pad_to_grid(cliques::GridCounts& gc, std::size_t points) {
+  if (gc.counts.size() >= points) return;
+  if (gc.stopped_by.empty()) gc.stopped_by = "max_density";
+  gc.counts.resize(points);
+  gc.chi.resize(points, 0);
+  if (!gc.node_counts.empty()) gc.node_counts.resize(points);
+  if (!gc.curvature_numerators.empty()) gc.curvature_numerators.resize(points);
+}
+
 }  // namespace
 
 void SweepOptions::validate() const {
   if (curvature && !cliques)
     fail(ErrorKind::argument, "sweep options: \"curvature\" needs the clique engine (remove \"cliques\": false)");
-  if (curvature && cliques && cliques->chi_only)
-    fail(ErrorKind::argument, "sweep options: \"curvature\" needs every clique size; drop cliques.chi_only");
+  if (cliques) check_engine_range(cliques->max_density, grid.max_density, "cliques.max_density");
+  if (homology) check_engine_range(homology->max_density, grid.max_density, "homology.max_density");
+  if (curvature) check_engine_range(curvature->max_density, grid.max_density, "curvature.max_density");
 }
 
 SweepOptions parse_sweep_options(const Json& options) {
@@ -172,25 +217,51 @@ SweepResult run_sweep(const connectivity::Matrix& matrix, const SweepOptions& op
   result.filtration = filtration::build(matrix.values, options.weights, options.grid.max_density);
   result.grid = filtration::make_grid(result.filtration, options.grid);
 
-  // Cliques: exact counts Cl_k and chi (core/cliques). With curvature on, the engine also
-  // sums each node's Gauss-Bonnet share straight from its counting tree.
+  // Each engine runs over its own range (its max_density); the shared filtration is cut
+  // for it, and its curves end there (n/a beyond).
+  // Cliques: exact counts Cl_k and chi (core/cliques). With curvature on over the same
+  // range, the engine also sums each node's Gauss-Bonnet share from its counting tree.
+  std::optional<cliques::GridCounts> curvature_counts;
+  const std::optional<double> curvature_limit =
+      options.curvature ? (options.curvature->max_density ? options.curvature->max_density : options.cliques->max_density)
+                        : std::nullopt;
+  const bool shared_counts = options.curvature && !options.cliques->chi_only &&
+                             curvature_limit.value_or(2.0) == options.cliques->max_density.value_or(2.0);
   if (options.cliques) {
+    const EngineRange range = engine_range(result.filtration, result.grid, options.cliques->max_density);
     cliques::Options copt = *options.cliques;
-    copt.node_curvature = options.curvature.has_value();
-    result.cliques = cliques::count_on_grid(result.filtration, result.grid, copt, progress);
+    copt.node_curvature = shared_counts;
+    result.cliques = cliques::count_on_grid(range.filtration(result.filtration), range.grid, copt, progress);
+    pad_to_grid(*result.cliques, result.grid.size());
   }
   // Homology: bars and Betti curves (core/homology). Where the clique engine ran and no
   // simplex lies above the computed dimensions, Euler-Poincare (chi = sum (-1)^k beta_k)
   // must hold exactly: a mismatch is a bug, never output.
   if (options.homology) {
-    result.homology = homology::compute(result.filtration, result.grid, *options.homology, progress);
-    if (result.cliques)
+    const EngineRange range = engine_range(result.filtration, result.grid, options.homology->max_density);
+    result.homology = homology::compute(range.filtration(result.filtration), range.grid, *options.homology, progress);
+    // chi_only counts hold Cl_0 and Cl_1 only, which cannot show that no simplex lies
+    // above the Betti dimensions: the check needs every count.
+    if (result.cliques && !options.cliques->chi_only)
       result.euler_poincare_checked = homology::check_euler_poincare(
-          *result.homology, result.cliques->counts, result.cliques->chi, result.cliques->complete_points);
+          *result.homology, result.cliques->counts, result.cliques->chi,
+          std::min(result.cliques->complete_points, result.homology->betti.size()));
   }
   // Curvature: node curvature with Gauss-Bonnet checked at every point, Forman-Ricci.
-  if (options.curvature)
-    result.curvature = curvature::on_grid(result.filtration, result.grid, *result.cliques, *options.curvature);
+  // Over a shorter range than chi's (or beside chi_only) it gets its own full count.
+  if (options.curvature) {
+    const EngineRange range = engine_range(result.filtration, result.grid, curvature_limit);
+    if (!shared_counts) {
+      cliques::Options copt = *options.cliques;
+      copt.chi_only = false;
+      copt.node_curvature = true;
+      copt.node_counts = false;
+      curvature_counts = cliques::count_on_grid(range.filtration(result.filtration), range.grid, copt, progress);
+      pad_to_grid(*curvature_counts, result.grid.size());
+    }
+    result.curvature = curvature::on_grid(range.filtration(result.filtration), result.grid,
+                                          shared_counts ? *result.cliques : *curvature_counts, *options.curvature);
+  }
   // Transitions: zeros of chi, Betti crossings and peaks, the random-graph reference.
   if (options.transitions.enabled && (result.cliques || result.homology))
     result.transitions = transitions::analyse(transition_curves(result), result.nodes, options.transitions);

@@ -39,11 +39,12 @@ int run_sweep(const Args& args) {
   // --curvature: node and edge curvature on the grid (the transitions come with chi anyway).
   if (args.has("curvature") && !options.contains("curvature")) options["curvature"] = nlohmann::json::object();
   // Clique engine flags fill the "cliques" section (flags win over --options).
-  if (args.has("max-dimension") || args.has("max-work") || args.has("threads") || args.has("chi-only")) {
+  if (args.has("max-dimension") || args.has("max-work") || args.has("max-seconds") || args.has("threads") || args.has("chi-only")) {
     if (!options.contains("cliques") || !options["cliques"].is_object()) options["cliques"] = nlohmann::json::object();
     auto& c = options["cliques"];
     if (args.has("max-dimension")) c["max_dimension"] = args.integer("max-dimension", -1);
     if (args.has("max-work")) c["max_work"] = args.number("max-work", 0);
+    if (args.has("max-seconds")) c["max_seconds"] = args.number("max-seconds", 0);
     if (args.has("threads")) c["threads"] = args.integer("threads", 0);
     if (args.has("chi-only")) c["chi_only"] = true;
   }
@@ -98,6 +99,7 @@ const Registration registration{Command{
      {"transitions-out", "FILE", "also write the transitions summary (chi zeros, Betti crossings, ...) as TSV"},
      {"max-dimension", "K", "count cliques only up to dimension K (chi is then exact only until a larger clique forms)"},
      {"max-work", "W", "stop after about W pivoting-tree nodes; the result says up to which density it is complete"},
+     {"max-seconds", "S", "stop the clique counts after S seconds of wall time; what is complete is kept and marked"},
      {"threads", "T", "threads for the clique counts (default: all cores; results do not depend on it)"},
      {"chi-only", "", "only the Euler characteristic (much faster; columns chi, cliques_0, cliques_1)"},
      {"options", "JSON", "sweep options as a JSON object (README: sweep options)"}},
