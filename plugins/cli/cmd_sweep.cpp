@@ -100,7 +100,7 @@ const Registration registration{Command{
      {"max-work", "W", "stop after about W pivoting-tree nodes; the result says up to which density it is complete"},
      {"threads", "T", "threads for the clique counts (default: all cores; results do not depend on it)"},
      {"chi-only", "", "only the Euler characteristic (much faster; columns chi, cliques_0, cliques_1)"},
-     {"options", "JSON", "sweep options as a JSON object (README: sweep options)"}},
+     {"options", "JSON", "sweep options as a JSON object (docs/options.md: sweep)"}},
     1,
     1,
     run_sweep}};
