@@ -11,7 +11,6 @@
 - the tutorial's fenced bash blocks run, in order, in a scratch folder, and succeed.
 """
 import glob
-import json
 import os
 import re
 import subprocess
