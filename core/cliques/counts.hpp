@@ -1,7 +1,7 @@
 // The clique engine: exact clique counts Cl_k, the Euler characteristic chi and the
 // node clique counts Cl_{i,k} of the flag complex, along the density filtration.
 //
-// Method (METHODS.md, "Euler characteristic and Betti numbers"): when edge uv enters,
+// Method (docs/methods.md, "Clique counts and the Euler characteristic"): when edge uv enters,
 // the new simplices are uv + S for every clique S (empty included) of the common
 // neighbourhood of u and v. Those cliques are counted, never listed, by a pivoting
 // tree (Jain & Seshadhri 2020): a leaf with h hold nodes and p pivot nodes stands for

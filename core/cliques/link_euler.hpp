@@ -5,8 +5,8 @@
 // included) of the common neighbourhood L of u and v, so chi changes by
 //   delta = -f(L),  f(L) = sum over cliques S of L of (-1)^|S|
 // (f(L) is minus the reduced Euler characteristic of L's clique complex). f is computed
-// by the pivot-free branches of the pivoting tree (METHODS.md, "Consequences worth
-// exploiting"): for a pivot p, the cliques inside p's closed neighbourhood form a cone
+// by the pivot-free branches of the pivoting tree (docs/methods.md, "Counting by edge
+// increments"): for a pivot p, the cliques inside p's closed neighbourhood form a cone
 // and add 0, so f(P) = -sum over the non-neighbours x of p of f(N(x) ∩ rest), where
 // rest drops p and the non-neighbours already branched on. Any order of those
 // branches is exact; taking the least connected first leaves the largest candidate

@@ -37,7 +37,7 @@ class BitGraph {
   std::vector<std::uint64_t> bits_;
 };
 
-// Node curvature straight from the leaves (METHODS.md, "Consequences worth exploiting").
+// Node curvature straight from the leaves (docs/methods.md, "Counting by edge increments").
 // A leaf of edge uv with h hold nodes H and p pivot nodes P stands for the simplices
 // uv + H + S, S any subset of P, |S| = j, of dimension 1 + h + j; Knill's curvature
 // gives each node of a k-simplex (-1)^k / (k + 1). Summed over the leaf (Beta integral

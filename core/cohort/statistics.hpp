@@ -1,7 +1,7 @@
 // Group statistics for a cohort: two groups of subjects, each subject reduced to a
 // number (a summary such as the first transition density) or to a curve on a shared
 // density grid. Inputs are value types (vectors, subjects x points matrices); nothing
-// here reads files. METHODS.md, "Group statistics and nulls".
+// here reads files. docs/methods.md, "Group statistics".
 //
 // Conventions (chosen to agree with scipy.stats, which the reference tests use):
 //  - Permutation p-values follow scipy.stats.permutation_test: with all relabellings

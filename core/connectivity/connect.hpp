@@ -1,6 +1,6 @@
 // From a regional time series to one connectivity matrix per band: cleaning -> band
 // limiting -> censoring -> standardising -> estimator -> optional Fisher z.
-// The options are the "connect options" JSON of the README; unknown keys are errors.
+// The options are the "connect" options of docs/options.md; unknown keys are errors.
 #pragma once
 
 #include <nlohmann/json.hpp>

@@ -1,4 +1,4 @@
-// Curvature of the clique complex on the density grid (METHODS.md, "Curvature").
+// Curvature of the clique complex on the density grid (docs/methods.md, "Curvature").
 //
 // Node curvature (Gauss-Bonnet, Knill 2011, arXiv:1111.5395):
 //   kappa_i = sum_{k>=0} (-1)^k Cl_{i,k} / (k+1),  Cl_{i,k} = k-simplices containing node i

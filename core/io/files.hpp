@@ -40,7 +40,7 @@ Table read_table(const std::string& path, const TableOptions& options);
 std::string detect_format(const std::string& path);  // by extension: tsv, csv, npy or text
 
 // Time series: frames down the rows, regions across the columns. Options JSON keys:
-// "format", "header" (see README). Validated (series::validate) before returning.
+// "format", "header" (see docs/options.md). Validated (series::validate) before returning.
 series::Series read_series(const std::string& path, const nlohmann::json& options);
 // Square symmetric matrix with optional names. Options JSON keys: "format", "header".
 connectivity::Matrix read_matrix(const std::string& path, const nlohmann::json& options);

@@ -1,5 +1,4 @@
-// The demo study's generative model (invented data; README, "Group statistics and null
-// models"): a fictional sleep laboratory compares rested and sleep-deprived volunteers.
+// The demo study's generative model (invented data; docs/demo-study.md): a fictional sleep laboratory compares rested and sleep-deprived volunteers.
 //
 // All subjects share one "atlas": R regions in M modules of near-equal size (contiguous
 // blocks) and a base loading a_i per region, uniform in [loading_min, loading_max], drawn

@@ -1,4 +1,4 @@
-// Surrogate time series for null models (METHODS.md, "Group statistics and nulls").
+// Surrogate time series for null models (docs/methods.md, "Null models").
 // Input and output are T frames x N regions; every method keeps each region's
 // amplitude spectrum (|FFT| per frequency) and differs in what else it keeps:
 //   phase_multivariate  the same random phase added to a frequency in every region

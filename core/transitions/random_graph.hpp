@@ -1,4 +1,4 @@
-// Closed forms for the Erdos-Renyi random graph G(N, p) (METHODS.md, "Random-graph
+// Closed forms for the Erdos-Renyi random graph G(N, p) (docs/methods.md, "Random-graph
 // references"): the random baseline a subject's transitions are read against.
 //
 //   E[chi]     = sum_{k>=1} (-1)^(k-1) C(N,k)   p^(k(k-1)/2)

@@ -1,4 +1,4 @@
-// Topological transitions read off curves on a density grid (METHODS.md, "Transitions").
+// Topological transitions read off curves on a density grid (docs/methods.md, "Transitions").
 //
 // Inputs are plain arrays (densities and curve values), so the same code serves a sweep
 // and a host that computed its curves elsewhere. Curves are step functions known at

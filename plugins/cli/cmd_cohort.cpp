@@ -52,7 +52,7 @@ const Registration registration{Command{
     "MANIFEST.tsv has a header with subject, group and timeseries (or image and labels,\n"
     "optionally label_names: the atlas's index/name table), optionally confounds, and any\n"
     "numeric covariate columns (e.g. age; n/a = missing).\n"
-    "CONFIG.json is the shared subject config (connect, sweep, null; README). Subjects\n"
+    "CONFIG.json is the shared subject config (connect, sweep, null; docs/options.md). Subjects\n"
     "whose inputs and options are unchanged since the last run are skipped. A failing\n"
     "subject does not stop the others; the exit status is 1 when any failed.",
     {{"out", "DIR", "output folder (created if missing)"},

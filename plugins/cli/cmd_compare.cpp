@@ -63,7 +63,7 @@ const Registration registration{Command{
      {"covariates", "A,B", "manifest columns regressed out of every summary (e.g. age)"},
      {"seed", "N", "seed of the Monte Carlo relabellings and bootstrap (default 1)"},
      {"resamples", "N", "Monte Carlo relabellings when exact enumeration is too large (default 9999)"},
-     {"options", "JSON", "compare options as a JSON object (README: compare options)"}},
+     {"options", "JSON", "compare options as a JSON object (docs/options.md: compare)"}},
     1,
     1,
     run_compare}};

@@ -146,8 +146,8 @@ const Registration registration{Command{
     "labels); or a CIFTI-2 parcellated series (.ptseries.nii), whose parcels are the\n"
     "regions (no --labels). The series are the mean over each label's voxels or\n"
     "brainordinates.\n"
-    "Cleaning, band limiting and the estimator come from --options (README: connect\n"
-    "options). With several bands, --out is a name containing {band} or a folder; each\n"
+    "Cleaning, band limiting and the estimator come from --options (docs/options.md:\n"
+    "connect). With several bands, --out is a name containing {band} or a folder; each\n"
     "band gets its own file (<input>_band-<name>_connectivity.<ext> in a folder).\n"
     "Files are written atomically; on any error nothing is written and the exit status\n"
     "is non-zero. Research software: not for clinical decisions.",
@@ -159,7 +159,7 @@ const Registration registration{Command{
      {"label-names", "TSV", "label index and name per line, for --labels"},
      {"label-map", "MAP", "map of a CIFTI label file with several maps: name or number from 1"},
      {"sampling-interval", "SECONDS", "time between frames (default: from the NIfTI or CIFTI header)"},
-     {"method", "NAME", "estimator (default pearson; see README for the list)"},
+     {"method", "NAME", "estimator (default pearson; docs/cli.md lists them)"},
      {"fisher-z", "", "apply Fisher's z = atanh(r) to the result"},
      {"options", "JSON", "connect options as a JSON object, or @FILE to read them from a file"}},
     1,

@@ -53,7 +53,7 @@ const Registration registration{Command{
     "simulate",
     "critplex simulate --out DIR [options]",
     "Write a synthetic two-group cohort (invented data) for power analysis and the demo.",
-    "The model (README: the demo study) is a fictional sleep laboratory: rested and\n"
+    "The model (docs/demo-study.md) is a fictional sleep laboratory: rested and\n"
     "sleep-deprived volunteers whose modular regional signals share a global signal that\n"
     "is stronger in the deprived group. Writes time series, manifest.tsv,\n"
     "cohort_config.json and model.json into DIR. With --layout bids, DIR (new or empty)\n"
@@ -70,7 +70,7 @@ const Registration registration{Command{
      {"layout", "KIND", "tsv (time series tables, default) or bids (images as pipeline derivatives)"},
      {"sessions", "N", "bids: sessions per subject (default 0: no session level)"},
      {"block", "N", "bids: voxels along each side of a region's cube, 1-8 (default 2)"},
-     {"options", "JSON", "model options as a JSON object (README: the demo study)"}},
+     {"options", "JSON", "model options as a JSON object (docs/options.md)"}},
     0,
     0,
     run_simulate}};

@@ -65,7 +65,7 @@ const Registration registration{Command{
     "subject",
     "critplex subject [CONFIG.json] --out DIR [options]",
     "Run one subject from time series to curves, curvature, transitions and null model.",
-    "CONFIG.json holds the subject config (README: subject config); flags override its\n"
+    "CONFIG.json holds the subject config (docs/options.md: subject); flags override its\n"
     "keys. Writes sub-<id>_topology.json (everything, with provenance) and TSV twins\n"
     "(connectivity, curves, transitions) into DIR, each file atomically.",
     {{"out", "DIR", "output folder (required, must exist)"},
@@ -73,8 +73,8 @@ const Registration registration{Command{
      {"group", "NAME", "group label carried into the outputs"},
      {"timeseries", "FILE", "regional time series (TSV, CSV, text or NPY)"},
      {"confounds", "FILE", "confounds table (TSV with header)"},
-     {"connect", "JSON", "connect options (README: connect options)"},
-     {"sweep", "JSON", "sweep options (README: sweep options)"},
+     {"connect", "JSON", "connect options (docs/options.md: connect)"},
+     {"sweep", "JSON", "sweep options (docs/options.md: sweep)"},
      {"null", "MODEL", "none, phase_multivariate, phase_independent, iaaft or rewire"}},
     0,
     1,

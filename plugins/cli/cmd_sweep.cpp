@@ -102,7 +102,7 @@ const Registration registration{Command{
      {"max-seconds", "S", "stop the clique counts after S seconds of wall time; what is complete is kept and marked"},
      {"threads", "T", "threads for the clique counts (default: all cores; results do not depend on it)"},
      {"chi-only", "", "only the Euler characteristic (much faster; columns chi, cliques_0, cliques_1)"},
-     {"options", "JSON", "sweep options as a JSON object (README: sweep options)"}},
+     {"options", "JSON", "sweep options as a JSON object (docs/options.md: sweep)"}},
     1,
     1,
     run_sweep}};

@@ -1,7 +1,7 @@
 function comparison = critplex_compare(dir, options)
 % CRITPLEX_COMPARE  Group comparison of a cohort run.
 %   comparison = critplex_compare(dir, options) compares the groups of the finished
-%   subjects in dir (README: compare options; e.g. struct('covariates', {{'age'}})) and
+%   subjects in dir (docs/options.md: compare; e.g. struct('covariates', {{'age'}})) and
 %   writes group_comparison.json and group_tests.tsv there. comparison.tests is the
 %   group-test table as a struct of columns (numbers as double vectors, NaN where a test
 %   has no value); comparison.document is the whole comparison decoded from JSON.

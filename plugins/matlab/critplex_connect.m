@@ -3,7 +3,7 @@ function [R, info, names] = critplex_connect(X, options, names)
 %   R = critplex_connect(X) is the Pearson correlation matrix of X (time points down the
 %   rows, regions across the columns; a MATLAB table keeps its variable names).
 %   [R, info, names] = critplex_connect(X, options, names) takes options as a struct or
-%   JSON text, e.g. struct('method', 'ledoit_wolf') (README: connect options), and region
+%   JSON text, e.g. struct('method', 'ledoit_wolf') (docs/options.md: connect), and region
 %   names as a cell array of text. info is the estimator's report (method, frames used,
 %   shrinkage intensity, band); names are the region names of R's rows and columns.
 %   Research software, not a medical device: not for clinical decisions.

@@ -1,6 +1,6 @@
 function result = critplex_subject(config, out_dir)
 % CRITPLEX_SUBJECT  One subject from time series to topology.
-%   result = critplex_subject(config) runs a subject config (README: subject config),
+%   result = critplex_subject(config) runs a subject config (docs/options.md: subject),
 %   given as a struct or JSON text, through connectivity, the sweep and the null model.
 %   result.document is the subject document decoded from JSON; result.curves is a struct
 %   of column vectors (the first band's grid curves); result.bands holds every band.

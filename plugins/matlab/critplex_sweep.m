@@ -4,7 +4,7 @@ function [curves, result, bars, kappa] = critplex_sweep(M, options, names)
 %   order of decreasing weight and returns a struct of column vectors on the density grid:
 %   density, threshold, edges, chi, cliques_k, and when asked betti_k, kappa_* and
 %   forman_* summaries, log_abs_chi (-Inf where chi is 0). options: struct or JSON text
-%   (README: sweep options), e.g. struct('max_density', 0.3, 'grid', 0.01).
+%   (docs/options.md: sweep), e.g. struct('max_density', 0.3, 'grid', 0.01).
 %   [curves, result, bars, kappa] = critplex_sweep(M, options, names) also returns the
 %   whole result decoded from JSON (exact counts are decimal text there), the persistence
 %   bars as a struct of columns (dimension, birth_rank, death_rank, birth_density,

@@ -27,8 +27,8 @@ class CritplexSubjectInputSpec(CommandLineInputSpec):
     subject_id = traits.Str("01", usedefault=True, desc="subject id (letters, digits, '-', '.')")
     group = traits.Str("", usedefault=True, desc="group label carried into the outputs")
     confounds = File(exists=True, desc="confounds table (TSV with header)")
-    connect = traits.Dict(desc="connect options (critplex README: connect options)")
-    sweep = traits.Dict(desc="sweep options (critplex README: sweep options)")
+    connect = traits.Dict(desc="connect options (critplex docs/options.md: connect)")
+    sweep = traits.Dict(desc="sweep options (critplex docs/options.md: sweep)")
     null = traits.Dict(desc="null model, e.g. {'model': 'rewire', 'count': 19}")
     config_file = File("critplex_subject.json", usedefault=True, argstr="%s", position=0,
                        desc="subject config written by the interface")

@@ -1,5 +1,5 @@
 /* The homology engine from C99 with the public header only: a circle of six nodes
- * (Betti numbers 1, 1 over Z/2: standard algebraic topology, METHODS.md) through
+ * (Betti numbers 1, 1 over Z/2: standard algebraic topology, docs/methods.md) through
  * cpx_sweep_run with a "homology" section, its bars by the two-call cpx_sweep_bars in
  * both layouts, the betti columns, and the error for a sweep without homology. */
 #include <critplex/critplex.h>

@@ -18,7 +18,7 @@ static int failures = 0;
 
 int main(void) {
   /* Octahedron: every pair except (0,1), (2,3), (4,5) has weight 1, the rest -1.
-   * reference: METHODS.md worked value, node curvature 1/3 (Knill 2011). */
+   * reference: docs/methods.md worked value, node curvature 1/3 (Knill 2011). */
   double m[36];
   for (int i = 0; i < 6; ++i)
     for (int j = 0; j < 6; ++j) m[i * 6 + j] = (i == j) ? 1.0 : ((i / 2 == j / 2) ? -1.0 : 1.0);
@@ -59,7 +59,7 @@ int main(void) {
         CPX_ERR_ARGUMENT);
   CHECK(json == NULL);
 
-  /* E[chi] of G(2, p) = 2 - p. reference: METHODS.md closed form. */
+  /* E[chi] of G(2, p) = 2 - p. reference: docs/methods.md closed form. */
   const double p[2] = {0.25, 1.0};
   CHECK(cpx_random_graph_expectations(2, p, 2, "{\"zeros\": false}", &json) == CPX_OK);
   CHECK(json != NULL && strstr(json, "\"chi\":1.75") != NULL);

@@ -8,7 +8,7 @@ import numpy as np
 
 
 def edge_order(matrix, max_density=1.0):
-    """Edges in entry order, positive mode (METHODS.md: decreasing weight, ties by
+    """Edges in entry order, positive mode (docs/methods.md: decreasing weight, ties by
     (i, j)), cut at max_density with the last tie group kept whole (as the library
     documents). Returns (iu, ju, weights)."""
     n = matrix.shape[0]

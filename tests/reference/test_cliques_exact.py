@@ -134,7 +134,7 @@ class CommandLine(unittest.TestCase):
         for name, delimiter, has_header in [("m.tsv", "\t", True), ("m.csv", ",", False), ("h.csv", ",", True)]:
             _, other = self.sweep_tsv(self.write_text(name, self.m, delimiter, has_header))
             self.assertEqual([r[2:] for r in other], [r[2:] for r in rows], name)
-        # chi = sum_k (-1)^k Cl_k on every row (Euler-Poincare by counts, METHODS.md)
+        # chi = sum_k (-1)^k Cl_k on every row (Euler-Poincare by counts, docs/methods.md)
         for r in rows:
             counts = [int(c) for c in r[4:]]
             self.assertEqual(int(r[3]), sum((-1) ** k * c for k, c in enumerate(counts)))

@@ -3,7 +3,7 @@
 Each check names its source: networkx.enumerate_all_cliques (Debian python3-networkx),
 igraph Graph.cliques (python3-igraph), gudhi SimplexTree (python3-gudhi), nitime's
 real fMRI series (python3-nitime), Euler's polyhedron formula and the Erdos-Renyi
-closed form E[chi] = sum_k (-1)^(k-1) C(N,k) p^(k(k-1)/2) (METHODS.md).
+closed form E[chi] = sum_k (-1)^(k-1) C(N,k) p^(k(k-1)/2) (docs/methods.md).
 The engine is called through the C interface (ctypes on CRITPLEX_LIBRARY).
 """
 import ctypes
@@ -53,7 +53,7 @@ def counts_of(point):
 
 
 def edges_in_order(matrix):
-    """Pairs by decreasing value, ties by (i, j): the order METHODS.md prescribes."""
+    """Pairs by decreasing value, ties by (i, j): the order docs/methods.md prescribes."""
     n = matrix.shape[0]
     pairs = [(-matrix[i, j], i, j) for i in range(n) for j in range(i + 1, n) if matrix[i, j] > 0]
     pairs.sort()
@@ -187,7 +187,7 @@ class AgainstGudhi(unittest.TestCase):
 
 
 class WorkedValues(unittest.TestCase):
-    # reference: Euler's polyhedron formula V - E + F = 2 (METHODS.md)
+    # reference: Euler's polyhedron formula V - E + F = 2 (docs/methods.md)
     def test_octahedron(self):
         edges = [(a, b) for a in range(6) for b in range(a + 1, 6) if not (a % 2 == 0 and b == a + 1)]
         end = sweep(graph_matrix(6, edges), {"grid": "every"})["cliques"]["points"][-1]
@@ -221,7 +221,7 @@ class WorkedValues(unittest.TestCase):
 
 class ErdosRenyi(unittest.TestCase):
     def test_mean_chi_matches_closed_form(self):
-        # reference: E[Cl_{k-1}] = C(N,k) p^(k(k-1)/2) in G(N,p) (Erdos & Renyi; METHODS.md),
+        # reference: E[Cl_{k-1}] = C(N,k) p^(k(k-1)/2) in G(N,p) (Erdos & Renyi; docs/methods.md),
         # so E[chi] = sum_{k>=1} (-1)^(k-1) C(N,k) p^(k(k-1)/2), computed exactly here.
         n, samples = 22, 300
         ps = [Fraction(1, 5), Fraction(2, 5), Fraction(1, 2), Fraction(3, 5)]

@@ -1,7 +1,7 @@
 """Node curvature (Gauss-Bonnet), Forman-Ricci edge curvature and their distributions
 from `sweep` with a "curvature" section, against outside references:
 
-- worked values for the octahedron and icosahedron graphs (METHODS.md: node curvature
+- worked values for the octahedron and icosahedron graphs (docs/methods.md: node curvature
   1/3 and 1/6, chi = 2; Knill 2011, arXiv:1111.5395);
 - cliques listed by networkx.enumerate_all_cliques (Debian python3-networkx), from which
   kappa_i = sum_k (-1)^k Cl_{i,k} / (k+1) is computed here directly, on random graphs and
@@ -77,7 +77,7 @@ class PlatonicGraphs(unittest.TestCase):
         return s, last
 
     def test_octahedron(self):
-        # reference: METHODS.md worked value 1 - 4/2 + 4/3 = 1/3 per node, sum 2 (Knill 2011)
+        # reference: docs/methods.md worked value 1 - 4/2 + 4/3 = 1/3 per node, sum 2 (Knill 2011)
         edges = [(u, v) for u in range(6) for v in range(u + 1, 6) if not (u % 2 == 0 and v == u + 1)]
         s, last = self.run_graph(6, edges)
         kappa = [curve[last] for curve in s["curvature"]["node_kappa"]["values"]]
@@ -89,7 +89,7 @@ class PlatonicGraphs(unittest.TestCase):
         self.assertAlmostEqual(gb["sum_kappa"], 2.0, delta=1e-14)
 
     def test_icosahedron(self):
-        # reference: METHODS.md worked value 1 - 5/2 + 5/3 = 1/6 per node, sum 2 (Knill 2011)
+        # reference: docs/methods.md worked value 1 - 5/2 + 5/3 = 1/6 per node, sum 2 (Knill 2011)
         edges = []
         for i in range(5):
             up, up_next, low, low_next = 1 + i, 1 + (i + 1) % 5, 6 + i, 6 + (i + 1) % 5
@@ -204,7 +204,7 @@ class NodeCurvatureCall(unittest.TestCase):
 @unittest.skipUnless(os.environ.get("CRITPLEX_CLI"), "CRITPLEX_CLI not set")
 class CommandLine(unittest.TestCase):
     def test_sweep_curvature_and_transitions_files(self):
-        # reference: METHODS.md worked value, octahedron node curvature 1/3 and chi = 2
+        # reference: docs/methods.md worked value, octahedron node curvature 1/3 and chi = 2
         edges = [(u, v) for u in range(6) for v in range(u + 1, 6) if not (u % 2 == 0 and v == u + 1)]
         m = graph_matrix(6, edges)
         with tempfile.TemporaryDirectory() as tmp:

@@ -7,9 +7,9 @@
   matrix, --threshold at the last rank), so no rounding enters;
 - gudhi (Debian python3-gudhi): persistence of the same flag filtration on small
   matrices, and simplex counts for the Euler-Poincare check
-  sum_k (-1)^k beta_k = chi (METHODS.md) where every dimension present is computed.
+  sum_k (-1)^k beta_k = chi (docs/methods.md) where every dimension present is computed.
 
-The edge order is rebuilt here from METHODS.md ("Filtration": decreasing weight,
+The edge order is rebuilt here from docs/methods.md ("Filtration": decreasing weight,
 ties broken by (i, j)), independently of the library.
 """
 import json
@@ -126,7 +126,7 @@ class HomologyAgainstRipser(unittest.TestCase):
             np.fill_diagonal(m, 1.0)
             with self.subTest(trial=trial):
                 sweep = self.compare(m, 2, 0.6)
-                # Densities of bars are taken after the whole tie group (METHODS.md).
+                # Densities of bars are taken after the whole tie group (docs/methods.md).
                 _, _, w = edge_order(m, 0.6)
                 pairs = n * (n - 1) // 2
 

@@ -1,4 +1,4 @@
-"""Erdos-Renyi closed forms E[chi] and E[kappa] (METHODS.md, "Random-graph references")
+"""Erdos-Renyi closed forms E[chi] and E[kappa] (docs/methods.md, "Random-graph references")
 as computed by critplex in paired binary128 arithmetic, against:
 
 - python3-mpmath evaluating the same alternating sums to 50 significant digits, for

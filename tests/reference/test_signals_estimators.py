@@ -25,7 +25,7 @@ class Estimators(unittest.TestCase):
         self.assertEqual(info["frames_used"], 250)
 
     def test_fisher_z(self):
-        # reference: numpy.arctanh of numpy.corrcoef; Fisher z = atanh(r) (METHODS.md)
+        # reference: numpy.arctanh of numpy.corrcoef; Fisher z = atanh(r) (docs/methods.md)
         z, _ = connect(self.series, {"method": "pearson", "fisher_z": True})
         r = np.corrcoef(self.regions, rowvar=False)
         np.fill_diagonal(r, 0.0)
@@ -83,7 +83,7 @@ class Estimators(unittest.TestCase):
 
     def test_partial_from_ledoit_wolf(self):
         # reference: numpy.linalg.inv of sklearn's LedoitWolf covariance; partial correlation
-        # -P_ij / sqrt(P_ii P_jj) (METHODS.md)
+        # -P_ij / sqrt(P_ii P_jj) (docs/methods.md)
         from sklearn.covariance import LedoitWolf
         r, info = connect(self.series, {"method": "partial"})
         p = np.linalg.inv(LedoitWolf().fit(self.regions).covariance_)

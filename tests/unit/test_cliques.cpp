@@ -101,7 +101,7 @@ std::vector<long long> enumerate_all(std::size_t n, const EdgeList& edges, std::
 
 }  // namespace
 
-// reference: Euler's polyhedron formula V - E + F = 2 (METHODS.md); octahedron 6, 12, 8.
+// reference: Euler's polyhedron formula V - E + F = 2 (docs/methods.md); octahedron 6, 12, 8.
 TEST_CASE("octahedron: counts 6, 12, 8 and chi = 2", "[cliques]") {
   GridCounts r = run(in_order(6, octahedron()));
   REQUIRE(r.complete_points == r.counts.size());
@@ -178,7 +178,7 @@ TEST_CASE("results do not depend on the thread count", "[cliques]") {
 }
 
 // reference: each k-simplex has k+1 nodes, so sum_i Cl_{i,k} = (k+1) Cl_k (common practice);
-// octahedron: every node is in 4 edges and 4 triangles (METHODS.md, curvature check values).
+// octahedron: every node is in 4 edges and 4 triangles (docs/methods.md, curvature check values).
 TEST_CASE("node counts: octahedron and the handshake identity", "[cliques]") {
   Options o;
   o.node_counts = true;
@@ -265,7 +265,7 @@ TEST_CASE("options: unknown keys and bad values are refused", "[cliques]") {
 
 TEST_CASE("leaf shares: the closed form equals the direct sum over the leaf's simplices", "[cliques][curvature]") {
   // reference: Knill 2011 gives each node of a k-simplex (-1)^k / (k+1); a leaf with h
-  // holds and p pivots holds C(p, j) simplices of dimension 1 + h + j (METHODS.md). The
+  // holds and p pivots holds C(p, j) simplices of dimension 1 + h + j (docs/methods.md). The
   // direct sum, times D, must equal the table's integer: for u, v and a hold node
   // sum_j C(p, j) (-1)^(1+h+j) D / (2+h+j); for a pivot node sum_{j>=1} C(p-1, j-1) (same term).
   const std::size_t m = 30;

@@ -123,7 +123,7 @@ Eigen::MatrixXd brain_like(std::size_t n, std::size_t frames, std::mt19937_64& r
 }  // namespace
 
 TEST_CASE("octahedron: every node has curvature 1/3, sum 2", "[curvature]") {
-  // reference: worked values in METHODS.md (1 - 4/2 + 4/3 = 1/3; V - E + F = 2), Knill 2011
+  // reference: worked values in docs/methods.md (1 - 4/2 + 4/3 = 1/3; V - E + F = 2), Knill 2011
   Brute b = brute_force(6, octahedron());
   REQUIRE(b.chi == 2);
   NodeCurvature c = node_curvature(b.node_counts);
@@ -139,7 +139,7 @@ TEST_CASE("octahedron: every node has curvature 1/3, sum 2", "[curvature]") {
 }
 
 TEST_CASE("icosahedron: every node has curvature 1/6, sum 2", "[curvature]") {
-  // reference: worked values in METHODS.md (1 - 5/2 + 5/3 = 1/6), Knill 2011
+  // reference: worked values in docs/methods.md (1 - 5/2 + 5/3 = 1/6), Knill 2011
   EdgeList e = icosahedron();
   REQUIRE(std::set<std::pair<std::uint32_t, std::uint32_t>>(e.begin(), e.end()).size() == 30);
   Brute b = brute_force(12, e);
@@ -390,7 +390,7 @@ TEST_CASE("Gauss-Bonnet on the engine's sums fails loudly when a sum is off", "[
 }
 
 TEST_CASE("a sweep with curvature no longer carries node counts; asked for, they still come", "[curvature]") {
-  // reference: the octahedron's node counts 1, 4, 4 and kappa 1/3 (METHODS.md, Knill 2011)
+  // reference: the octahedron's node counts 1, 4, 4 and kappa 1/3 (docs/methods.md, Knill 2011)
   connectivity::Matrix m;
   m.values = Eigen::MatrixXd::Constant(6, 6, -1.0);  // only the octahedron's edges are positive
   for (auto [u, v] : octahedron()) m.values(u, v) = m.values(v, u) = 1.0;

@@ -175,7 +175,7 @@ Edges random_graph(int n, double p, std::mt19937_64& rng) {
 
 // reference: Betti numbers over Z/2 of the circle (1,1), the 2-sphere (1,0,1), the
 // torus (1,2,1) and the real projective plane (1,1,1): standard algebraic topology
-// (Hatcher, Algebraic Topology, 2002, Examples 2.3-2.4 and 3.1-3.2; METHODS.md).
+// (Hatcher, Algebraic Topology, 2002, Examples 2.3-2.4 and 3.1-3.2; docs/methods.md).
 TEST_CASE("circles of 4 to 9 nodes have Betti numbers (1, 1)", "[homology][known]") {
   for (int n = 4; n <= 9; ++n) {
     Edges e;
@@ -340,7 +340,7 @@ TEST_CASE("options are checked and index overflow fails loudly", "[homology][err
   }
 }
 
-// reference: the Euler-Poincare formula chi = sum_k (-1)^k beta_k (METHODS.md), with chi
+// reference: the Euler-Poincare formula chi = sum_k (-1)^k beta_k (docs/methods.md), with chi
 // from the clique engine's exact counts (core/cliques), on every grid point where no
 // simplex lies above the computed dimensions.
 TEST_CASE("Euler-Poincare holds against the clique engine", "[homology][cliques]") {

@@ -67,7 +67,7 @@ TEST_CASE("Betti crossings and peaks", "[transitions]") {
 
 namespace {
 // E[chi] of G(N, p) for p = 1/2 summed exactly in rationals over 2^(N(N-1)/2) (N small).
-// reference: METHODS.md E[chi] = sum_k (-1)^(k-1) C(N,k) p^(k(k-1)/2) (closed form, exact here)
+// reference: docs/methods.md E[chi] = sum_k (-1)^(k-1) C(N,k) p^(k(k-1)/2) (closed form, exact here)
 double exact_expected_chi_half(int n) {
   long double sum = 0;  // terms are exact binary fractions; N <= 12 keeps them exact in 64-bit mantissa
   long double binom = 1;

@@ -10,7 +10,7 @@
  *  - Objects are opaque handles made by a create, read or compute call and released by the
  *    matching free call, which accepts NULL.
  *  - Options are JSON text (an object; NULL or "" means defaults). Unknown keys are an
- *    error, so a typo never passes silently. The README documents every key.
+ *    error, so a typo never passes silently. docs/options.md documents every key.
  *  - Arrays going in are a pointer, explicit sizes and a cpx_layout flag (MATLAB, R and
  *    Julia hold matrices column-major; C and NumPy row-major by default).
  *  - Arrays coming out use two calls: ask the size, then copy into the caller's buffer,
@@ -118,7 +118,7 @@ typedef struct cpx_series cpx_series;
 CPX_API cpx_status cpx_series_create(const double* data, size_t frames, size_t regions, cpx_layout layout,
                                      const char* const* region_names, cpx_series** out);
 /* Reads TSV/CSV with a header row of region names, whitespace-separated text without a
- * header, or NPY (float64/float32, C or Fortran order). Options: see README
+ * header, or NPY (float64/float32, C or Fortran order). Options: see docs/options.md
  * ("format": "auto"|"tsv"|"csv"|"text"|"npy", "header": "auto"|true|false). */
 CPX_API cpx_status cpx_series_read(const char* path, const char* options_json, cpx_series** out);
 CPX_API void cpx_series_free(cpx_series* series);
@@ -159,8 +159,8 @@ CPX_API cpx_status cpx_matrix_write(const cpx_matrix* matrix, const char* path, 
 /* ------------------------------------------------------------------------------------ */
 
 /* Estimates connectivity: optional cleaning (confound regression, detrending, censoring,
- * standardising), optional band limiting, then the estimator. Options (README, "connect
- * options"): {"method": "pearson"|"ledoit_wolf"|"oas"|"shrinkage_correlation"|"partial"|
+ * standardising), optional band limiting, then the estimator. Options (docs/options.md,
+ * "connect"): {"method": "pearson"|"ledoit_wolf"|"oas"|"shrinkage_correlation"|"partial"|
  * "plv"|"pli"|"wpli"|"aec"|"aec_orthogonalised", "fisher_z", "sampling_interval",
  * "partial_basis", "clean": {...}, "filter": {...}, "bands": {...}}. Files named in the
  * options (confounds table, frame mask) are read by this call. What the estimator reports
@@ -230,7 +230,7 @@ CPX_API cpx_status cpx_series_sampling_interval(const cpx_series* series, double
 typedef struct cpx_sweep cpx_sweep;
 
 /* Runs the density filtration of `matrix` and every engine the options ask for. Options
- * (README, "sweep options"): {"weights", "max_density", "grid", "cliques", "homology",
+ * (docs/options.md, "sweep"): {"weights", "max_density", "grid", "cliques", "homology",
  * "curvature", "transitions"}. progress may be NULL. */
 CPX_API cpx_status cpx_sweep_run(const cpx_matrix* matrix, const char* options_json, cpx_progress_fn progress,
                                  void* user, cpx_sweep** out);
@@ -250,8 +250,8 @@ CPX_API cpx_status cpx_sweep_curve(const cpx_sweep* sweep, const char* column, d
 /* ------------------------------------------------------------------------------------ */
 /* Group statistics, surrogates and rewiring (owner: cohort/simulate stages)             */
 /* ------------------------------------------------------------------------------------ */
-/* Results come back as JSON text (release with cpx_string_free). Options are JSON (README,
- * "Group statistics and null models"); every random choice comes from "seed", so a result
+/* Results come back as JSON text (release with cpx_string_free). Options are JSON (docs/options.md,
+ * "stats.*", "surrogate", "rewire"); every random choice comes from "seed", so a result
  * is the same for a given seed. Research software: no clinical decisions. */
 
 /* Permutation test of a difference between group a (n_a values) and group b (n_b values).
@@ -302,7 +302,7 @@ CPX_API cpx_status cpx_surrogate(const cpx_series* series, const char* options_j
  * sorted) into rewired (length >= 2*edge_count). Options: {"swaps_per_edge": 10, "seed": 1}. */
 CPX_API cpx_status cpx_rewire_edges(size_t nodes, const uint32_t* edges, size_t edge_count, const char* options_json,
                                     uint32_t* rewired, size_t rewired_length);
-/* The demo cohort's model (README, "Group statistics and null models"): the plan as JSON
+/* The demo cohort's model (docs/demo-study.md): the plan as JSON
  * {"model", "subjects": [{"subject", "group", "seed", "global_strength", "age"}], "module",
  * "base_loading", "region_names"}. Invented data. */
 CPX_API cpx_status cpx_simulate_plan(const char* options_json, char** plan_json);
@@ -314,7 +314,7 @@ CPX_API cpx_status cpx_simulate_subject(const char* options_json, size_t index, 
 /* Whole subjects and cohorts (owner: pipeline stage)                                    */
 /* ------------------------------------------------------------------------------------ */
 
-/* Runs one subject from a JSON config (README, "Subject config": id, timeseries or
+/* Runs one subject from a JSON config (docs/options.md, "subject": id, timeseries or
  * image + labels, connect, sweep, null, ...) and returns the subject document as JSON.
  * When out_dir is not NULL, the document and its TSV twins are also written there
  * (atomically; the folder must exist). Relative paths in the config are taken from the
@@ -332,7 +332,7 @@ CPX_API cpx_status cpx_cohort_run(const char* manifest_path, const char* config_
                                   const char* options_json, cpx_progress_fn progress, void* user, char** summary_json);
 
 /* --- homology: persistence bars of a sweep (owner: homology engine) ------------------ */
-/* A sweep run with a "homology" section (README, "Betti curves and barcodes") holds the
+/* A sweep run with a "homology" section (docs/outputs.md, "homology") holds the
  * bars of its flag filtration over Z/2; its curves include betti_0..betti_K. */
 #define CPX_BAR_COLUMNS 7
 /* Bars of one dimension (or of every dimension when `dimension` is -1), two-call
@@ -349,7 +349,7 @@ CPX_API cpx_status cpx_sweep_bars(const cpx_sweep* sweep, int dimension, cpx_lay
  * curves with bootstrap bands, permutation tests of per-subject summaries with Hedges g
  * and Benjamini-Hochberg, cluster permutation tests along the density axis, null
  * baselines. Writes dir/group_comparison.json and dir/group_tests.tsv; returns the
- * comparison as JSON. Options (README, "Compare options"): {"band", "groups",
+ * comparison as JSON. Options (docs/options.md, "compare"): {"band", "groups",
  * "statistic", "exact_limit", "resamples", "seed", "confidence", "covariates",
  * "cluster_curves"}. */
 CPX_API cpx_status cpx_cohort_compare(const char* dir, const char* options_json, char** comparison_json);
@@ -385,8 +385,8 @@ CPX_API cpx_status cpx_simulate_study(const char* options_json, const char* dir,
 CPX_API cpx_status cpx_sweep_node_curvature(const cpx_sweep* sweep, cpx_layout layout, double* buffer,
                                             size_t buffer_length, size_t* points, size_t* nodes);
 /* The transitions summary record of a sweep as TSV (header row first; one row per chi
- * zero, chi touch, Betti crossing, Betti peak and random-graph zero; README, "Curvature
- * and transitions"). Release with cpx_string_free. Since 0.1. */
+ * zero, chi touch, Betti crossing, Betti peak and random-graph zero; docs/outputs.md,
+ * "transitions"). Release with cpx_string_free. Since 0.1. */
 CPX_API cpx_status cpx_sweep_transitions_tsv(const cpx_sweep* sweep, char** tsv);
 /* Transitions of curves computed elsewhere. density: `points` non-decreasing values;
  * chi: `points` values or NULL; betti: points x dimensions values in `layout`, or NULL

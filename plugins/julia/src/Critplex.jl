@@ -235,7 +235,7 @@ end
     connect(x; names=nothing, options=nothing) -> (values, names, info)
 
 Connectivity matrix of time series `x` (time points down the rows, regions across).
-`options`: a Dict or NamedTuple of connect options (README: connect options), e.g.
+`options`: a Dict or NamedTuple of connect options (docs/options.md: connect), e.g.
 `(method = "ledoit_wolf",)`. Returns the N x N matrix, the region names and the
 estimator's report (shrinkage intensity, frames used, ...).
 """
@@ -393,7 +393,7 @@ end
 """
     run_subject(config; out_dir=nothing) -> (document, bands)
 
-One subject from time series to topology (README: subject config); `config` is a Dict,
+One subject from time series to topology (docs/options.md: subject); `config` is a Dict,
 a NamedTuple or JSON text. Returns the subject document (parsed JSON) and per band
 `(name, curves)` with the curves as `Vector{Float64}`. When `out_dir` is given, the
 document and its TSV twins are written there too.
@@ -412,7 +412,7 @@ end
 """
     run_cohort(manifest, config, out_dir; workers=0, force=false) -> summary
 
-Every subject of a manifest TSV with one shared config (README: cohorts) into `out_dir`.
+Every subject of a manifest TSV with one shared config (docs/cli.md: critplex cohort) into `out_dir`.
 Unchanged finished subjects are skipped. Returns the run summary (`done`, `skipped`,
 `failed`, `subjects`) parsed from JSON.
 """
@@ -429,7 +429,7 @@ end
 """
     compare(dir; options=nothing) -> (columns, tests, document)
 
-Group comparison of a cohort run's folder (README: compare options); writes
+Group comparison of a cohort run's folder (docs/options.md: compare); writes
 `group_comparison.json` and `group_tests.tsv` there. `tests` maps each column of the
 group-test table (in the order of `columns`) to a vector, one entry per test: numbers as
 `Float64` (NaN where a test has no value), other columns as text.
@@ -446,7 +446,7 @@ end
 """
     report(dir; options=nothing) -> String
 
-Writes the HTML report of a compared cohort folder (README: the report) and returns its path.
+Writes the HTML report of a compared cohort folder (docs/outputs.md: report) and returns its path.
 """
 function report(dir::AbstractString; options = nothing)
     path = Ref{Ptr{Cchar}}(C_NULL)
@@ -459,7 +459,7 @@ end
     simulate_study(dir; options=nothing) -> summary
 
 Writes an invented two-group study (time series, manifest, cohort config, model) into
-`dir` (README: the demo study) and returns its summary.
+`dir` (docs/demo-study.md) and returns its summary.
 """
 function simulate_study(dir::AbstractString; options = nothing)
     summary = Ref{Ptr{Cchar}}(C_NULL)

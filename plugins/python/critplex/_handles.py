@@ -212,7 +212,7 @@ class Matrix(_Handle):
         path : str
             Output file.
         **options
-            Write options (README: time series and matrix options).
+            Write options (docs/options.md).
         """
         check(library().cpx_matrix_write(self._h, str(path).encode(), options_json(options)))
 
@@ -381,7 +381,7 @@ def read_matrix(path: str, **options: Any) -> Matrix:
     path : str
         The file.
     **options
-        ``format``, ``header`` (README: time series and matrix options).
+        ``format``, ``header`` (docs/options.md).
 
     Returns
     -------
@@ -409,7 +409,7 @@ def connect(series: Any, options: Optional[Mapping[str, Any]] = None, *, names: 
     series : Series, array_like or pandas.DataFrame
         Frames x regions. A DataFrame keeps its column names as region names.
     options : dict, optional
-        Connect options (README: connect options), e.g. ``{"method": "ledoit_wolf"}``.
+        Connect options (docs/options.md: connect), e.g. ``{"method": "ledoit_wolf"}``.
     names : sequence of str, optional
         Region names when ``series`` is a plain array.
     **more
@@ -440,7 +440,7 @@ def connect_bands(series: Any, options: Optional[Mapping[str, Any]] = None, *,
     series : Series, array_like or pandas.DataFrame
         Frames x regions.
     options : dict, optional
-        Connect options with ``bands`` (README: connect options).
+        Connect options with ``bands`` (docs/options.md: connect).
     names : sequence of str, optional
         Region names when ``series`` is a plain array.
     **more
@@ -478,7 +478,7 @@ def sweep(matrix: Any, options: Optional[Mapping[str, Any]] = None, *, progress:
     matrix : Matrix, array_like or pandas.DataFrame
         A symmetric connectivity matrix.
     options : dict, optional
-        Sweep options (README: sweep options): ``max_density``, ``grid``, ``weights``,
+        Sweep options (docs/options.md: sweep): ``max_density``, ``grid``, ``weights``,
         ``cliques``, ``homology``, ``curvature``, ``transitions``.
     progress : callable, optional
         ``progress(fraction)``; returning True cancels (CritplexError, status

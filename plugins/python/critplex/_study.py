@@ -181,7 +181,7 @@ class Study:
 
 
 def run_subject(config: Config, out_dir: Optional[Union[str, os.PathLike]] = None, progress: Progress = None) -> SubjectResult:
-    """One subject from time series to topology (README: subject config).
+    """One subject from time series to topology (docs/options.md: subject).
 
     Parameters
     ----------
@@ -206,7 +206,7 @@ def run_subject(config: Config, out_dir: Optional[Union[str, os.PathLike]] = Non
 
 def run_cohort(manifest: Union[str, os.PathLike], config: Config, out_dir: Union[str, os.PathLike], workers: int = 0,
                force: bool = False, progress: Progress = None) -> CohortRun:
-    """Every subject of a manifest with one shared config (README: cohorts).
+    """Every subject of a manifest with one shared config (docs/cli.md: critplex cohort).
 
     Parameters
     ----------
@@ -242,7 +242,7 @@ def run_cohort(manifest: Union[str, os.PathLike], config: Config, out_dir: Union
 
 
 def compare(results_dir: Union[str, os.PathLike], options: Optional[Mapping[str, Any]] = None, **more: Any) -> Comparison:
-    """Group statistics of a cohort run's finished subjects (README: compare options).
+    """Group statistics of a cohort run's finished subjects (docs/options.md: compare).
 
     Writes ``group_comparison.json`` and ``group_tests.tsv`` into the folder.
 
@@ -302,7 +302,7 @@ def simulate_study(out_dir: Union[str, os.PathLike], options: Optional[Mapping[s
     out_dir : str
         Output folder (created if missing).
     options : dict, optional
-        Model options (README: the demo study): ``regions``, ``frames``, ``seed``,
+        Model options (docs/demo-study.md): ``regions``, ``frames``, ``seed``,
         ``groups``, ``sampling_interval``, ``config``, ...
     **more
         Further options as keywords.

@@ -47,7 +47,7 @@ test_that("chi at every edge equals an independent clique count", {
 
 test_that("the octahedron has chi = 2 and node curvature 1/3", {
   # reference: the octahedron's clique complex is a 2-sphere, chi = 2, and each of its
-  # 6 nodes has Gauss-Bonnet curvature 1/3 (closed forms, METHODS.md)
+  # 6 nodes has Gauss-Bonnet curvature 1/3 (closed forms, docs/methods.md)
   oct <- matrix(1, 6, 6) - diag(6)
   oct[cbind(1:6, c(2, 1, 4, 3, 6, 5))] <- 0
   s <- critplex_sweep(oct, list(grid = "every", curvature = list()))
