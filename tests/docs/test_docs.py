@@ -5,9 +5,8 @@
   exists;
 - every key of the parser's option tables is in docs/options.md, every key there is in
   the tables, and the generated tables are current. The tables come from `critplex
-  options` once the command line has that catalogue call, else from docs_options_dump
-  (built from core's OptionSection tables); either way they are cross-checked against a
-  plain scan of the OptionSection tables in core/**.cpp so no table is left out;
+  options --format json` (the catalogue the parsers read), cross-checked against a plain
+  scan of the OptionSection tables in core/**.cpp so no table is left out of it;
 - the tutorial's fenced bash blocks run, in order, in a scratch folder, and succeed.
 """
 import glob
@@ -21,7 +20,6 @@ import unittest
 SOURCE = os.environ.get("CRITPLEX_SOURCE_DIR", os.path.dirname(os.path.dirname(os.path.dirname(
     os.path.abspath(__file__)))))
 CLI = os.environ.get("CRITPLEX_CLI", os.path.join(SOURCE, "build", "plugins", "cli", "critplex"))
-DUMP = os.environ.get("CRITPLEX_OPTIONS_DUMP", os.path.join(SOURCE, "build", "tests", "docs_options_dump"))
 sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
 import gen_capi  # noqa: E402
 import gen_options  # noqa: E402
@@ -146,8 +144,7 @@ def documented_keys(text):
 
 class Options(unittest.TestCase):
     def setUp(self):
-        self.schema = gen_options.load_schema(CLI if os.path.exists(CLI) else None,
-                                              DUMP if os.path.exists(DUMP) else None)
+        self.schema = gen_options.load_schema(CLI)
         self.keys = {s["name"]: [k["key"] for k in s["keys"]] for s in self.schema}
 
     def test_schema_covers_every_table_in_core(self):
