@@ -25,6 +25,7 @@ struct CompareOptions {
   double confidence = 0.95;
   std::vector<std::string> covariates;     // regressed out of every summary before testing
   std::vector<std::string> cluster_curves{"chi"};
+  std::vector<std::string> primary;  // headline summaries, listed first in the table (empty: the first summary)
 };
 const OptionSection& compare_option_section();
 CompareOptions parse_compare_options(const Json& options);
@@ -40,11 +41,21 @@ struct GroupResult {
 
 // One permutation test of a summary between two groups: group a (a later group) minus
 // group b (the first). row.p_adjusted is Benjamini-Hochberg across the whole table.
+struct NullHistogram {
+  std::vector<double> edges;           // bins + 1 edges
+  std::vector<std::uint64_t> counts;   // relabelled statistics per bin
+};
+
 struct SummaryTest {
   std::string group_a, group_b;
   std::vector<std::string> covariates;  // regressed out (empty: none)
   cohort::SummaryTestRow row;
+  bool headline = false;                 // a primary summary: its null distribution is kept
+  std::optional<NullHistogram> null_histogram;
 };
+
+// Histogram of a permutation null (equal-width bins spanning the draws and the observed value).
+NullHistogram null_histogram(const std::vector<double>& null_statistics, double observed, std::size_t bins = 30);
 
 struct ClusterTest {
   std::string curve, group_a, group_b;
