@@ -46,8 +46,8 @@ Json test_json(const pipeline::SummaryTest& t) {
   j["covariates"] = t.covariates;
   j["adjusted_mean_a"] = number_or_null(r.adjusted_mean_a);
   j["adjusted_mean_b"] = number_or_null(r.adjusted_mean_b);
-  j["value"] = r.result.statistic;
-  j["hedges_g"] = r.result.effect.hedges_g;
+  j["value"] = number_or_null(r.result.statistic);
+  j["hedges_g"] = number_or_null(r.result.effect.hedges_g);  // null when both groups are constant
   j["hedges_g_lower"] = number_or_null(r.g_interval.lower);
   j["hedges_g_upper"] = number_or_null(r.g_interval.upper);
   j["tested_on"] = r.on_residuals ? "covariate residuals" : "values";
@@ -154,6 +154,7 @@ Json comparison_json(const pipeline::Comparison& c) {
                                                 {"chi", numbers_or_null(c.null_baseline->chi)}}
                                          : Json(nullptr);
   doc["missing"] = c.missing;
+  doc["warnings"] = c.warnings;
   doc["caution"] = "Research software, not a medical device: not for clinical decisions.";
   return doc;
 }
@@ -242,8 +243,8 @@ pipeline::Comparison read_comparison(const Json& doc, const std::string& path) {
         r.raw_sd_b = tj.at("sd_b").get<double>();
         r.adjusted_mean_a = number_or_nan(tj.at("adjusted_mean_a"));
         r.adjusted_mean_b = number_or_nan(tj.at("adjusted_mean_b"));
-        r.result.statistic = tj.at("value").get<double>();
-        r.result.effect.hedges_g = tj.at("hedges_g").get<double>();
+        r.result.statistic = number_or_nan(tj.at("value"));
+        r.result.effect.hedges_g = number_or_nan(tj.at("hedges_g"));
         r.result.p_value = tj.at("p_value").get<double>();
         r.p_adjusted = number_or_nan(tj.at("p_adjusted"));
         r.result.exact = tj.at("exact").get<bool>();
@@ -287,6 +288,7 @@ pipeline::Comparison read_comparison(const Json& doc, const std::string& path) {
                                                numbers(nb.at("chi"))};
     }
     c.missing = doc.at("missing").get<std::vector<std::string>>();
+    c.warnings = doc.value("warnings", std::vector<std::string>{});
   } catch (const Json::exception& e) {
     fail(ErrorKind::parse, "'" + path + "': malformed group comparison (" + e.what() + ")");
   }

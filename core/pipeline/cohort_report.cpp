@@ -52,6 +52,7 @@ std::string report_html(const Comparison& c, const std::string& created) {
     in.options_json = options.dump(1);
   }
   in.facts.push_back({"regions (nodes)", std::to_string(c.regions)});
+  in.warnings = c.warnings;
   for (const auto& g : c.groups) {
     report::GroupResults gr;
     gr.name = g.name;
@@ -66,6 +67,8 @@ std::string report_html(const Comparison& c, const std::string& created) {
     const auto first = g.summaries.find("first_chi_zero");
     gr.first_transition = first != g.summaries.end() ? first->second : std::vector<double>(g.subjects.size(), nan_value);
     if (const auto z = g.summaries.find("first_chi_zero_null_z"); z != g.summaries.end()) gr.transition_z = z->second;
+    if (const auto r = g.summaries.find("first_chi_zero_null_percentile"); r != g.summaries.end())
+      gr.transition_percentile = r->second;
     gr.curvature_at_transition = g.curvature_at_transition;
     in.groups.push_back(std::move(gr));
   }

@@ -228,6 +228,21 @@ std::optional<NullBaseline> null_baseline(const std::vector<output::SubjectRecor
   return std::nullopt;
 }
 
+// One line for the subjects whose null draws were too few for a z-score.
+std::vector<std::string> null_warnings(const std::vector<output::SubjectRecord>& subjects) {
+  std::size_t n = 0;
+  std::string example;
+  for (const auto& s : subjects)
+    if (!s.null_warning.empty()) {
+      ++n;
+      if (example.empty()) example = "subject " + s.id + ": " + s.null_warning;
+    }
+  if (n == 0) return {};
+  return {std::to_string(n) + " of " + std::to_string(subjects.size()) +
+          " subjects have too few null draws for a z-score against the null; their percentile ranks are coarse (e.g. " +
+          example + "). Raise null.count to at least null.min_draws_for_z."};
+}
+
 // Moves the primary summaries to the front, in the user's order; each must exist.
 // Returns the headline summaries (the primary list, else the first summary).
 std::vector<std::string> primary_first(std::vector<std::string>& names, const std::vector<std::string>& primary) {
@@ -319,6 +334,7 @@ Comparison compare(const std::vector<output::SubjectRecord>& subjects, const Com
     for (std::size_t g = 1; g < groups.size(); ++g)
       c.clusters.push_back(cluster_test(curve, members[g], members[0], groups[g], groups[0], c.density, options));
   c.null_baseline = null_baseline(subjects, c.density);
+  c.warnings = null_warnings(subjects);
   return c;
 }
 

@@ -78,6 +78,7 @@ struct Comparison {
   std::vector<ClusterTest> clusters;
   std::optional<NullBaseline> null_baseline;
   std::vector<std::string> missing;  // listed subjects without a finished result
+  std::vector<std::string> warnings;  // e.g. too few null draws for a z-score
 };
 
 // The comparison of subjects already read.

@@ -353,6 +353,8 @@ thead th { border-bottom: 2px solid var(--ink); }
 td.n { text-align: right; font-variant-numeric: tabular-nums; }
 tbody tr:nth-child(even) { background: #f3f4f1; }
 pre { background: #f3f4f1; border: 1px solid var(--rule); padding: 10px; overflow-x: auto; font-size: 12.5px; }
+.warning { border-left: 5px solid #8a5a00; background: #fff8e8; }
+.warning ul { margin: 4px 0 0; padding-left: 20px; }
 footer { margin-top: 40px; color: var(--muted); font-size: 13px; border-top: 1px solid var(--rule); padding-top: 10px; }
 @media print { body { background: #ffffff; } .panel { break-inside: avoid; border-color: #999999; } }
 )css";
@@ -390,6 +392,8 @@ std::string build_report(const ReportInput& in) {
     for (std::size_t k = 0; k < g.betti.size(); ++k) check_band(g, g.betti[k], "beta_" + std::to_string(k), true);
     check_lengths("group '" + g.name + "', first transitions", g.subjects.size(), g.first_transition.size());
     if (!g.transition_z.empty()) check_lengths("group '" + g.name + "', transition z-scores", g.subjects.size(), g.transition_z.size());
+    if (!g.transition_percentile.empty())
+      check_lengths("group '" + g.name + "', transition percentile ranks", g.subjects.size(), g.transition_percentile.size());
   }
   if (in.null_baseline) {
     check_lengths("null baseline chi", in.null_baseline->density.size(), in.null_baseline->chi.size());
@@ -406,6 +410,11 @@ std::string build_report(const ReportInput& in) {
     << (in.created.empty() ? "" : " &middot; " + escape(in.created))
     << " &middot; research software, not a medical device: no clinical decisions</p></header>\n";
 
+  if (!in.warnings.empty()) {
+    h << "<div class=\"panel warning\" id=\"warnings\"><strong>Read with care</strong><ul>\n";
+    for (const auto& w : in.warnings) h << "<li>" << escape(w) << "</li>\n";
+    h << "</ul></div>\n";
+  }
   // Cohort and options.
   h << "<h2>Cohort and options</h2>\n<div class=\"panel\"><table><tbody>\n";
   for (const auto& g : in.groups)
@@ -460,17 +469,23 @@ std::string build_report(const ReportInput& in) {
   StripPlot first{"First transition per subject", "first chi zero (edge density)", in.transition_test_note, {}};
   StripPlot curvature{"Node curvature at the first transition", "node curvature (dimensionless)", "", {}};
   StripPlot zscores{"First transition against the null model", "z-score (null SD units)", "", {}};
-  bool any_curvature = false, any_z = false;
+  StripPlot ranks{"First transition: percentile rank among the null draws", "percentile rank (fraction of draws)",
+                  "Mid-rank of the subject's first transition among its null draws and itself; resolution 1/(draws+1).",
+                  {}};
+  bool any_curvature = false, any_z = false, any_rank = false;
   for (std::size_t k = 0; k < in.groups.size(); ++k) {
     const auto& g = in.groups[k];
     first.groups.push_back({g.name, g.first_transition, static_cast<int>(k)});
     curvature.groups.push_back({g.name, g.curvature_at_transition, static_cast<int>(k)});
     zscores.groups.push_back({g.name, g.transition_z, static_cast<int>(k)});
+    ranks.groups.push_back({g.name, g.transition_percentile, static_cast<int>(k)});
     any_curvature |= !g.curvature_at_transition.empty();
-    any_z |= !g.transition_z.empty();
+    any_z |= std::any_of(g.transition_z.begin(), g.transition_z.end(), [](double z) { return std::isfinite(z); });
+    any_rank |= !g.transition_percentile.empty();
   }
   h << "<h2>Transitions per subject</h2>\n<div class=\"pair\">\n<div class=\"panel\">" << svg_strip_plot(first) << "</div>\n";
   if (any_z) h << "<div class=\"panel\">" << svg_strip_plot(zscores) << "</div>\n";
+  if (any_rank) h << "<div class=\"panel\">" << svg_strip_plot(ranks) << "</div>\n";
   if (any_curvature) h << "<div class=\"panel\">" << svg_strip_plot(curvature) << "</div>\n";
   h << "</div>\n<p class=\"lede\">Boxes: quartiles; thick line: median.</p>\n";
 

@@ -68,7 +68,8 @@ struct GroupResults {
   Band chi, log_abs_chi;                 // log_abs_chi: log10 |chi|
   std::vector<Band> betti;               // beta_0, beta_1, ... (may be empty)
   std::vector<double> first_transition;  // per subject: density of the first chi zero (NaN: none)
-  std::vector<double> transition_z;      // per subject: z against the null (empty: no null)
+  std::vector<double> transition_z;      // per subject: z against the null (empty: no null; NaN: too few draws)
+  std::vector<double> transition_percentile;  // per subject: percentile rank among the null draws (empty: none)
   std::vector<double> curvature_at_transition;  // node curvatures at each subject's first transition, pooled
 };
 
@@ -97,6 +98,7 @@ struct ReportInput {
   std::optional<NullBaseline> null_baseline;
   std::vector<TestRow> tests;
   std::string transition_test_note;  // shown under the strip plot of first transitions
+  std::vector<std::string> warnings; // shown in a box at the top (e.g. too few null draws)
 };
 
 // Checks shapes (errors name the group and curve) and returns the whole HTML document.

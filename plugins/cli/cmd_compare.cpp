@@ -39,13 +39,20 @@ int run_compare(const Args& args) {
   check(cpx_cohort_compare(dir.c_str(), compare_options(args).dump().c_str(), &text));
   auto doc = nlohmann::json::parse(text);
   cpx_string_free(text);
+  // n/a where a value is missing (e.g. Hedges g of two constant groups).
+  auto number = [](const nlohmann::json& v, const char* format) {
+    if (!v.is_number()) return std::string("n/a");
+    char buffer[64];
+    std::snprintf(buffer, sizeof buffer, format, v.get<double>());
+    return std::string(buffer);
+  };
   std::printf("%-52s %-22s %10s %9s %10s %10s\n", "summary", "groups", "difference", "Hedges g", "p", "p (BH)");
   for (const auto& t : doc["tests"]) {
     if (!t.contains("p_value")) continue;
     std::string groups = t["group_a"].get<std::string>() + " vs " + t["group_b"].get<std::string>();
-    std::printf("%-52s %-22s %10.4g %9.2f %10.4g %10.4g\n", t.value("label", t["summary"].get<std::string>()).c_str(), groups.c_str(),
-                t["value"].get<double>(), t["hedges_g"].get<double>(), t["p_value"].get<double>(),
-                t["p_adjusted"].get<double>());
+    std::printf("%-52s %-22s %10s %9s %10s %10s\n", t.value("label", t["summary"].get<std::string>()).c_str(),
+                groups.c_str(), number(t["value"], "%.4g").c_str(), number(t["hedges_g"], "%.2f").c_str(),
+                number(t["p_value"], "%.4g").c_str(), number(t["p_adjusted"], "%.4g").c_str());
   }
   std::printf("written: %s/group_comparison.json, %s/group_tests.tsv\n", dir.c_str(), dir.c_str());
   return 0;
