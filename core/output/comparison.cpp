@@ -132,6 +132,9 @@ Json comparison_json(const pipeline::Comparison& c) {
     for (const auto& [name, values] : g.summaries) summaries[name] = numbers_or_null(values);
     gd["summaries"] = std::move(summaries);
     gd["curvature_at_transition"] = numbers_or_null(g.curvature_at_transition);
+    Json traces = Json::array();
+    for (const auto& t : g.subject_chi) traces.push_back(numbers_or_null(t));
+    gd["subject_chi"] = std::move(traces);
     groups.push_back(std::move(gd));
   }
   doc["groups"] = std::move(groups);
@@ -219,6 +222,7 @@ pipeline::Comparison read_comparison(const Json& doc, const std::string& path) {
       for (auto it = gd.at("summaries").begin(); it != gd.at("summaries").end(); ++it)
         g.summaries[it.key()] = numbers(it.value());
       g.curvature_at_transition = numbers(gd.at("curvature_at_transition"));
+      for (const auto& t : gd.value("subject_chi", Json::array())) g.subject_chi.push_back(numbers(t));
       c.groups.push_back(std::move(g));
     }
     for (const auto& tj : doc.at("tests")) {

@@ -4,6 +4,7 @@
 #include <limits>
 
 #include "base/error.hpp"
+#include "output/comparison.hpp"
 #include "output/subject_record.hpp"
 #include "pipeline/compare.hpp"
 #include "report/report.hpp"
@@ -69,7 +70,11 @@ std::string report_html(const Comparison& c, const std::string& created) {
     if (const auto z = g.summaries.find("first_chi_zero_null_z"); z != g.summaries.end()) gr.transition_z = z->second;
     if (const auto r = g.summaries.find("first_chi_zero_null_percentile"); r != g.summaries.end())
       gr.transition_percentile = r->second;
-    gr.curvature_at_transition = g.curvature_at_transition;
+    // One value per subject (the SD of its regions' curvature), not the pooled nodes.
+    if (const auto k = g.summaries.find("kappa_sd_at_first_chi_zero"); k != g.summaries.end())
+      gr.curvature_at_transition = k->second;
+    gr.subject_chi = g.subject_chi;
+    if (gr.subject_chi.size() != g.subjects.size()) gr.subject_chi.clear();  // written by an older version
     in.groups.push_back(std::move(gr));
   }
   if (c.null_baseline) {
@@ -77,7 +82,6 @@ std::string report_html(const Comparison& c, const std::string& created) {
     nb.label = c.null_baseline->label;
     nb.density = c.null_baseline->density;
     nb.chi = c.null_baseline->chi;
-    for (double x : nb.chi) nb.log_abs_chi.push_back(std::log10(std::fabs(x)));
     in.null_baseline = nb;
     in.facts.push_back({"null baseline", nb.label});
   }
@@ -89,6 +93,8 @@ std::string report_html(const Comparison& c, const std::string& created) {
     row.statistic = c.options.statistic;
     row.value = r.statistic;
     row.hedges_g = r.effect.hedges_g;
+    row.g_lower = t.row.g_interval.lower;
+    row.g_upper = t.row.g_interval.upper;
     row.p_value = r.p_value;
     row.p_adjusted = t.row.p_adjusted;
     row.method = method_of(r, c.options.seed);
@@ -98,10 +104,36 @@ std::string report_html(const Comparison& c, const std::string& created) {
                     t.group_a.c_str(), t.group_b.c_str(), row.value, row.hedges_g, row.p_value, row.method.c_str());
       in.transition_test_note = buf;
     }
+    if (t.headline && t.null_histogram && !t.null_histogram->counts.empty()) {
+      report::HistogramPlot hp;
+      hp.title = output::summary_label(t.row.summary) + ": " + t.group_a + " vs " + t.group_b;
+      hp.x_label = c.options.statistic + " under relabelling (" + (t.row.on_residuals ? "covariate residuals" : "values") + ")";
+      hp.edges = t.null_histogram->edges;
+      for (auto n : t.null_histogram->counts) hp.counts.push_back(static_cast<double>(n));
+      hp.observed = r.statistic;
+      char buf[160];
+      std::snprintf(buf, sizeof buf, "p = %.4g (%s)", r.p_value, row.method.c_str());
+      hp.note = buf;
+      in.null_histograms.push_back(std::move(hp));
+    }
     in.tests.push_back(std::move(row));
   }
+  in.test_notes.push_back("Multiple comparisons: " + output::multiple_comparison_family(c) + ".");
+  in.test_notes.push_back("Effect size: " + output::effect_size_method(c) + ".");
+  if (!c.options.covariates.empty()) in.test_notes.push_back("Covariate model: " + output::covariate_model(c) + ".");
   for (const auto& cl : c.clusters) {
     if (!cl.result) continue;
+    if (cl.curve == "chi") {
+      in.cluster_note = std::string("cluster permutation test of chi, ") + (cl.result->exact ? "exact, " : "Monte Carlo, ") +
+                        std::to_string(cl.result->null_size) + " relabellings";
+      for (const auto& k : cl.result->clusters)
+        if (k.p_value <= 0.05) {
+          char label[120];
+          std::snprintf(label, sizeof label, "p = %.3g%s", k.p_value,
+                        c.groups.size() > 2 ? (" (" + cl.group_a + ")").c_str() : "");
+          in.chi_clusters.push_back({cl.density[k.first], cl.density[k.last], label});
+        }
+    }
     for (const auto& k : cl.result->clusters) {
       report::TestRow row;
       char name[200];

@@ -123,6 +123,10 @@ GroupResult group_result(const std::string& name, const std::vector<const output
     for (const auto* s : members) v.push_back(s->summary(summary));
     g.summaries[summary] = std::move(v);
   }
+  for (const auto* s : members) {
+    const auto chi = s->curves.find("chi");
+    g.subject_chi.push_back(chi != s->curves.end() ? chi->second : std::vector<double>(points, nan_value));
+  }
   for (const auto* s : members)
     g.curvature_at_transition.insert(g.curvature_at_transition.end(), s->kappa_at_first_zero.begin(),
                                      s->kappa_at_first_zero.end());

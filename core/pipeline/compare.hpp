@@ -37,6 +37,7 @@ struct GroupResult {
   std::map<std::string, cohort::Band> curves;  // chi, betti_k, kappa_mean, kappa_sd, forman_mean (complete ones)
   std::map<std::string, std::vector<double>> summaries;  // per subject, NaN where missing
   std::vector<double> curvature_at_transition;  // node curvatures at each subject's first chi zero, pooled
+  std::vector<std::vector<double>> subject_chi;  // each subject's chi on the grid (NaN: missing), for the report
 };
 
 // One permutation test of a summary between two groups: group a (a later group) minus

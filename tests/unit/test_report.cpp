@@ -53,8 +53,9 @@ TEST_CASE("the report is one self-contained HTML document", "[report]") {
   CHECK(count(html, "src=") == 0);
   // The only address is the SVG namespace name, which browsers never fetch.
   CHECK(count(html, "http") == count(html, "xmlns=\"http://www.w3.org/2000/svg\""));
-  // chi, log|chi|, beta_0, beta_1, three strip plots (transitions, curvature; no z given: two)
-  CHECK(count(html, "<svg ") == 6);
+  // chi, log|chi|, the null on its own, beta_0, beta_1, two strip plots (transitions,
+  // curvature; no z or percentile ranks given)
+  CHECK(count(html, "<svg ") == 7);
   CHECK(count(html, "not a medical device") >= 1);
 }
 
@@ -66,6 +67,32 @@ TEST_CASE("the report escapes text and shows every group, test and the null", "[
   CHECK(count(html, "exact, 20 relabellings") == 1);
   CHECK(count(html, "1 without a value") == 2);  // a subject without a transition, per group
   CHECK(count(html, "&quot;max_density&quot;") == 1);
+}
+
+TEST_CASE("figures: the null apart, zero points, subject curves, clusters, null histograms", "[report]") {
+  ReportInput in = small_input();
+  for (auto& g : in.groups) g.subject_chi = {{5, 2, -1, 0}, {5, 1, 0, 1}, {5, 3, -2, 0.5}};
+  in.groups[0].chi.mean = {5, 2, 0, 0.5};  // a zero mean at density 0.2: log10|chi| undefined there
+  in.chi_clusters = {{0.1, 0.2, "p = 0.012"}};
+  in.null_histograms = {{"first transition: b vs a", "mean difference", "p = 0.04", {-1, 0, 1}, {3, 5}, 0.7}};
+  in.warnings = {"too few null draws"};
+  const std::string html = build_report(in);
+  // The null model has its own panel; the group chi plot does not carry it.
+  const auto null_panel = html.find("id=\"null-curve\"");
+  REQUIRE(null_panel != std::string::npos);
+  CHECK(html.find("random graph") > null_panel);
+  CHECK(count(html, "class=\"trace\"") == 6);       // 3 subjects x 2 groups, behind the means
+  CHECK(count(html, "class=\"zero-point\"") == 1);  // group 0's zero at density 0.2 on the log panel
+  CHECK(count(html, "undefined") >= 1);  // the caption says why the log line breaks
+  CHECK(count(html, "class=\"shade\"") == 1);
+  CHECK(count(html, "p = 0.012") == 1);
+  CHECK(count(html, "Permutation nulls of the headline tests") == 1);
+  CHECK(count(html, "observed 0.7") == 1);
+  CHECK(count(html, "too few null draws") == 1);
+  CHECK(count(html, "<script") == 0);
+  // The histogram's bars: one per bin; the shapes are checked.
+  in.null_histograms[0].edges = {0, 1};
+  CHECK_THROWS_AS(build_report(in), Error);
 }
 
 TEST_CASE("a NaN breaks a line instead of drawing through it", "[report]") {
