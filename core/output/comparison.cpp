@@ -15,12 +15,16 @@ namespace {
 
 const double nan_value = std::numeric_limits<double>::quiet_NaN();
 
-Json options_json(const pipeline::CompareOptions& o) {
+}  // namespace
+
+Json compare_options_json(const pipeline::CompareOptions& o) {
   return {{"band", o.band},         {"groups", o.groups},         {"statistic", o.statistic},
           {"exact_limit", o.exact_limit}, {"resamples", o.resamples}, {"seed", o.seed},
           {"confidence", o.confidence}, {"covariates", o.covariates}, {"cluster_curves", o.cluster_curves},
           {"primary", o.primary}};
 }
+
+namespace {
 
 std::string joined(const std::vector<std::string>& names, const char* separator) {
   std::string out;
@@ -115,7 +119,7 @@ Json comparison_json(const pipeline::Comparison& c) {
   Json doc;
   doc["kind"] = "critplex group comparison";
   doc["format_version"] = 2;
-  doc["options"] = options_json(c.options);
+  doc["options"] = compare_options_json(c.options);
   doc["statistic"] = c.options.statistic;
   doc["regions"] = c.regions;
   doc["density"] = c.density;
@@ -158,6 +162,7 @@ Json comparison_json(const pipeline::Comparison& c) {
                                          : Json(nullptr);
   doc["missing"] = c.missing;
   doc["warnings"] = c.warnings;
+  doc["provenance"] = c.provenance;
   doc["caution"] = "Research software, not a medical device: not for clinical decisions.";
   return doc;
 }
@@ -293,6 +298,7 @@ pipeline::Comparison read_comparison(const Json& doc, const std::string& path) {
     }
     c.missing = doc.at("missing").get<std::vector<std::string>>();
     c.warnings = doc.value("warnings", std::vector<std::string>{});
+    c.provenance = doc.value("provenance", Json());
   } catch (const Json::exception& e) {
     fail(ErrorKind::parse, "'" + path + "': malformed group comparison (" + e.what() + ")");
   }

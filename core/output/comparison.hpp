@@ -11,6 +11,7 @@
 namespace critplex::output {
 
 Json comparison_json(const pipeline::Comparison& comparison);
+Json compare_options_json(const pipeline::CompareOptions& options);  // every option, resolved
 std::string group_tests_tsv(const pipeline::Comparison& comparison);
 // Sentences stated beside the tables (and in the report): which tests form the
 // Benjamini-Hochberg family, the covariate model, and the effect-size interval.

@@ -37,6 +37,46 @@ std::string method_of(const cohort::PermutationResult& r, std::uint64_t seed) {
                  : "Monte Carlo, " + std::to_string(r.null_size) + " relabellings, seed " + std::to_string(seed);
 }
 
+std::string text_of(const Json& v) {
+  if (v.is_null()) return "n/a";
+  if (v.is_string()) return v.get<std::string>();
+  if (v.is_number_float()) {
+    char buf[32];
+    std::snprintf(buf, sizeof buf, "%.4g", v.get<double>());
+    return buf;
+  }
+  return v.dump();
+}
+
+// The provenance document (pipeline/provenance.hpp) as report tables.
+void add_provenance(const Json& p, report::ReportInput& in) {
+  if (!p.is_object()) return;
+  in.config_given_json = p.value("config_given", Json()).dump(1);
+  in.config_resolved_json = p.value("config_resolved", Json()).dump(1);
+  const Json v = p.value("versions", Json::object());
+  for (auto it = v.begin(); it != v.end(); ++it) in.versions.push_back({it.key(), text_of(it.value())});
+  in.checksums.header = {"subject", "input", "path", "SHA-256"};
+  for (const auto& s : p.value("inputs", Json::array())) {
+    const Json files = s.value("inputs", Json::object());
+    for (auto it = files.begin(); it != files.end(); ++it)
+      in.checksums.rows.push_back({s.value("subject", ""), it.key(), it.value().value("path", ""),
+                                   it.value().value("sha256", "n/a")});
+  }
+  in.quality.header = {"subject", "group", "status", "frames used / total", "censored", "estimator",
+                       "shrinkage intensity", "regions", "regions dropped", "null draws", "message"};
+  for (const auto& q : p.value("quality", Json::array())) {
+    const std::string id = q.value("subject", "") + (q.value("session", "").empty() ? "" : " (" + q.value("session", "") + ")");
+    std::string message = q.value("message", "");
+    if (q.value("null_warning", Json()).is_string()) message += (message.empty() ? "" : "; ") + std::string("too few null draws for a z-score");
+    in.quality.rows.push_back({id, q.value("group", ""), q.value("status", ""),
+                               text_of(q.value("frames_used", Json())) + " / " + text_of(q.value("frames", Json())),
+                               text_of(q.value("frames_censored", Json())), q.value("estimator", "n/a"),
+                               text_of(q.value("shrinkage_intensity", Json())), text_of(q.value("regions", Json())),
+                               text_of(q.value("regions_dropped", Json())), text_of(q.value("null_draws", Json())),
+                               message.empty() ? "" : message});
+  }
+}
+
 }  // namespace
 
 std::string report_html(const Comparison& c, const std::string& created) {
@@ -54,6 +94,7 @@ std::string report_html(const Comparison& c, const std::string& created) {
   }
   in.facts.push_back({"regions (nodes)", std::to_string(c.regions)});
   in.warnings = c.warnings;
+  add_provenance(c.provenance, in);
   for (const auto& g : c.groups) {
     report::GroupResults gr;
     gr.name = g.name;

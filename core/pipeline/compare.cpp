@@ -10,6 +10,7 @@
 #include "output/comparison.hpp"
 #include "output/subject.hpp"
 #include "pipeline/cohort.hpp"
+#include "pipeline/provenance.hpp"
 
 namespace critplex::pipeline {
 
@@ -57,6 +58,7 @@ CompareOptions parse_compare_options(const Json& options) {
   o.cluster_curves = r.texts("cluster_curves");
   o.primary = r.texts("primary");
   r.finish();
+  o.given = options.is_null() ? Json::object() : options;
   return o;
 }
 
@@ -383,6 +385,7 @@ Comparison compare_cohort(const std::string& dir, const CompareOptions& options)
   if (subjects.empty()) fail(ErrorKind::data, "'" + dir + "' holds no finished subject results");
   Comparison c = compare(subjects, options);
   c.missing = std::move(missing);
+  c.provenance = cohort_provenance(dir, options.band, options.given, output::compare_options_json(options));
   return c;
 }
 

@@ -26,6 +26,7 @@ struct CompareOptions {
   std::vector<std::string> covariates;     // regressed out of every summary before testing
   std::vector<std::string> cluster_curves{"chi"};
   std::vector<std::string> primary;  // headline summaries, listed first in the table (empty: the first summary)
+  Json given = Json::object();       // the options as given (provenance)
 };
 const OptionSection& compare_option_section();
 CompareOptions parse_compare_options(const Json& options);
@@ -80,6 +81,7 @@ struct Comparison {
   std::optional<NullBaseline> null_baseline;
   std::vector<std::string> missing;  // listed subjects without a finished result
   std::vector<std::string> warnings;  // e.g. too few null draws for a z-score
+  Json provenance;  // config given and resolved, versions, checksums, quality (pipeline/provenance.hpp); null: none
 };
 
 // The comparison of subjects already read.

@@ -424,6 +424,9 @@ pre { background: #f3f4f1; border: 1px solid var(--rule); padding: 10px; overflo
 .warning ul { margin: 4px 0 0; padding-left: 20px; }
 .shade { fill: #8c8c8c; fill-opacity: 0.16; }
 .shade-label { font-size: 11px; fill: #333333; }
+details summary { cursor: pointer; margin: 8px 0; }
+#quality-table, #checksums { font-size: 12.5px; }
+#checksums td { font-family: ui-monospace, Menlo, Consolas, monospace; word-break: break-all; }
 footer { margin-top: 40px; color: var(--muted); font-size: 13px; border-top: 1px solid var(--rule); padding-top: 10px; }
 @media print { body { background: #ffffff; } .panel { break-inside: avoid; border-color: #999999; } }
 )css";
@@ -450,6 +453,46 @@ Line band_line(const std::string& label, const std::vector<double>& x, const Ban
 }
 
 const std::string kDensityLabel = "edge density (fraction of region pairs connected)";
+
+std::string table_html(const Table& t, const std::string& id) {
+  std::ostringstream h;
+  h << "<table id=\"" << escape(id) << "\"><thead><tr>";
+  for (const auto& c : t.header) h << "<th>" << escape(c) << "</th>";
+  h << "</tr></thead><tbody>\n";
+  for (const auto& row : t.rows) {
+    h << "<tr>";
+    for (const auto& c : row) h << "<td>" << escape(c) << "</td>";
+    h << "</tr>\n";
+  }
+  h << "</tbody></table>\n";
+  return h.str();
+}
+
+// Configuration as given and resolved, versions, input checksums, and per-subject quality.
+std::string provenance_html(const ReportInput& in) {
+  std::ostringstream h;
+  if (!in.quality.rows.empty()) {
+    h << "<h2 id=\"quality\">Quality per subject</h2>\n<div class=\"panel wide\">" << table_html(in.quality, "quality-table")
+      << "<p class=\"lede\">Frames censored: frames the cleaning dropped before estimation. Shrinkage intensity: "
+         "n/a for estimators without shrinkage. A region that is constant after cleaning stops that subject with an "
+         "error (listed as failed), so no region is dropped silently.</p></div>\n";
+  }
+  if (in.config_given_json.empty() && in.versions.empty()) return h.str();
+  h << "<h2 id=\"provenance\">Provenance</h2>\n<div class=\"panel\">";
+  if (!in.versions.empty()) {
+    h << "<table><tbody>\n";
+    for (const auto& [k, v] : in.versions) h << "<tr><th scope=\"row\">" << escape(k) << "</th><td>" << escape(v) << "</td></tr>\n";
+    h << "</tbody></table>\n";
+  }
+  h << "<div class=\"pair\"><div><p class=\"lede\">Configuration as given (connect, sweep, null, compare):</p><pre>"
+    << escape(in.config_given_json) << "</pre></div><div><p class=\"lede\">As resolved, every default filled in:</p><pre>"
+    << escape(in.config_resolved_json) << "</pre></div></div>\n";
+  if (!in.checksums.rows.empty())
+    h << "<details><summary>Input checksums (SHA-256, " << in.checksums.rows.size() << " files)</summary>"
+      << table_html(in.checksums, "checksums") << "</details>\n";
+  h << "</div>\n";
+  return h.str();
+}
 
 }  // namespace
 
@@ -491,7 +534,8 @@ std::string build_report(const ReportInput& in) {
     h << "<tr><th scope=\"row\">group " << escape(g.name) << "</th><td>" << g.subjects.size() << " subjects</td></tr>\n";
   for (const auto& [k, v] : in.facts) h << "<tr><th scope=\"row\">" << escape(k) << "</th><td>" << escape(v) << "</td></tr>\n";
   h << "</tbody></table>\n";
-  if (!in.options_json.empty()) h << "<p class=\"lede\">Options as given:</p><pre>" << escape(in.options_json) << "</pre>\n";
+  if (!in.options_json.empty() && in.config_given_json.empty())
+    h << "<p class=\"lede\">Options as given:</p><pre>" << escape(in.options_json) << "</pre>\n";
   h << "</div>\n";
 
   // Mean chi and log|chi| with bands and per-subject curves, transitions marked,
@@ -596,6 +640,19 @@ std::string build_report(const ReportInput& in) {
     for (const auto& hp : in.null_histograms) h << "<div class=\"panel\">" << svg_histogram(hp) << "</div>\n";
     h << "</div>\n";
   }
+  if (!in.methods_text.empty()) {
+    h << "<h2 id=\"methods\">Methods</h2>\n<div class=\"panel methods\">";
+    std::size_t at = 0;
+    while (at < in.methods_text.size()) {
+      std::size_t end = in.methods_text.find("\n\n", at);
+      if (end == std::string::npos) end = in.methods_text.size();
+      const std::string para = in.methods_text.substr(at, end - at);
+      if (!para.empty()) h << "<p>" << escape(para) << "</p>\n";
+      at = end + 2;
+    }
+    h << "</div>\n";
+  }
+  h << provenance_html(in);
   h << "<footer>Made by " << escape(in.software.empty() ? std::string("critplex") : in.software)
     << ". Research software for the study of brain network topology; it is not a medical device and its "
        "results must not be used for diagnosis or treatment.</footer>\n</main>\n</body>\n</html>\n";

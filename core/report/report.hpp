@@ -111,6 +111,12 @@ struct TestRow {
   double g_upper = std::numeric_limits<double>::quiet_NaN();
 };
 
+// A plain table of text cells (n/a already written for missing values).
+struct Table {
+  std::vector<std::string> header;
+  std::vector<std::vector<std::string>> rows;
+};
+
 struct ReportInput {
   std::string title = "Cohort topology report";
   std::string software;  // e.g. "critplex 0.1.0"
@@ -126,6 +132,12 @@ struct ReportInput {
   std::string cluster_note;          // how the clusters were tested
   std::vector<HistogramPlot> null_histograms;  // headline tests
   std::vector<std::string> test_notes;  // under the tests table: family, covariate model, effect-size method
+  // Provenance and quality (empty: not shown).
+  std::string config_given_json, config_resolved_json;
+  std::vector<std::pair<std::string, std::string>> versions;
+  Table checksums;  // subject, file, SHA-256
+  Table quality;    // one row per subject
+  std::string methods_text;  // the methods paragraph (plain text, paragraphs separated by blank lines)
 };
 
 // Checks shapes (errors name the group and curve) and returns the whole HTML document.

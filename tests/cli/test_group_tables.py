@@ -16,6 +16,7 @@ against outside references:
 The cohort is invented demo data (the simulated sleep laboratory)."""
 import csv
 import ctypes
+import hashlib
 import json
 import math
 import os
@@ -207,6 +208,61 @@ class GroupTables(unittest.TestCase):
             self.assertEqual(sum(t["null_histogram"]["counts"]), RESAMPLES)
             self.assertLessEqual(t["null_histogram"]["edges"][0], t["value"])
             self.assertGreaterEqual(t["null_histogram"]["edges"][-1], t["value"])
+
+    def test_provenance_and_quality(self):
+        # references: Python hashlib (SHA-256 of each input), the subject documents' own
+        # connectivity records, and the config file as written
+        prov = self.doc["provenance"]
+        with open(os.path.join(self.out, "cohort_config.json")) as f:
+            self.assertEqual(prov["config_given"]["cohort_config"], json.load(f))
+        self.assertEqual(prov["config_given"]["compare"], self.options)
+        resolved = prov["config_resolved"]
+        self.assertEqual(resolved["connect"]["method"], "pearson")
+        self.assertIn("clean", resolved["connect"])  # defaults shown even when not given
+        self.assertEqual(resolved["null"]["min_draws_for_z"], 100)
+        self.assertEqual(resolved["compare"]["resamples"], RESAMPLES)
+        self.assertIn("max_density", resolved["sweep"])
+        self.assertTrue(prov["versions"]["critplex"])
+        subjects = [s for g in self.doc["groups"] for s in g["subjects"]]
+        self.assertEqual(sorted(q["subject"] for q in prov["quality"]), sorted(subjects))
+        for q in prov["quality"]:
+            with open(os.path.join(self.out, f"sub-{q['subject']}_topology.json")) as f:
+                info = json.load(f)["bands"][0]["connectivity"]
+            self.assertEqual(q["status"], "done")
+            self.assertEqual((q["frames"], q["frames_used"]), (info["frames"], info["frames_used"]))
+            self.assertEqual(q["frames_censored"], info["frames"] - info["frames_used"])
+        for entry in prov["inputs"]:
+            ts = entry["inputs"]["timeseries"]
+            with open(ts["path"], "rb") as f:
+                self.assertEqual(ts["sha256"], hashlib.sha256(f.read()).hexdigest())
+
+    def test_failed_subject_in_quality_table(self):
+        manifest = os.path.join(self.tmp.name, "study", "manifest.tsv")
+        with open(manifest) as f:
+            lines = f.read().splitlines()
+        broken = os.path.join(self.tmp.name, "broken.tsv")
+        with open(broken, "w") as f:
+            f.write("a\tb\n1\t2\n3\n")
+        cells = lines[1].split("\t")
+        cells[2] = broken
+        bad_manifest = os.path.join(self.tmp.name, "manifest-broken.tsv")
+        with open(bad_manifest, "w") as f:
+            f.write("\n".join([lines[0], "\t".join(cells)] + [
+                "\t".join(c if i != 2 or os.path.isabs(c) else os.path.join(self.tmp.name, "study", c)
+                          for i, c in enumerate(l.split("\t"))) for l in lines[2:]]) + "\n")
+        config = os.path.join(self.tmp.name, "config.json")
+        out = os.path.join(self.tmp.name, "broken-results")
+        subprocess.run([CLI, "cohort", bad_manifest, "--config", config, "--out", out], capture_output=True)
+        run("compare", out, "--resamples", "99")
+        with open(os.path.join(out, "group_comparison.json")) as f:
+            quality = json.load(f)["provenance"]["quality"]
+        failed = [q for q in quality if q["status"] == "failed"]
+        self.assertEqual([q["subject"] for q in failed], [cells[0]])
+        self.assertIn("broken.tsv", failed[0]["message"])
+        run("report", out)
+        with open(os.path.join(out, "report.html")) as f:
+            html = f.read()
+        self.assertTrue('id="quality-table"' in html and "broken.tsv" in html, "the failure is in the report")
 
     def test_unknown_primary_is_named(self):
         p = subprocess.run([CLI, "compare", self.out, "--options", json.dumps({"primary": ["no_such_summary"]})],
