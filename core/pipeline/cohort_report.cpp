@@ -7,6 +7,7 @@
 #include "output/comparison.hpp"
 #include "output/subject_record.hpp"
 #include "pipeline/compare.hpp"
+#include "pipeline/methods.hpp"
 #include "report/report.hpp"
 
 namespace critplex::pipeline {
@@ -95,6 +96,12 @@ std::string report_html(const Comparison& c, const std::string& created) {
   in.facts.push_back({"regions (nodes)", std::to_string(c.regions)});
   in.warnings = c.warnings;
   add_provenance(c.provenance, in);
+  {
+    const MethodsText m = methods_text(c);
+    for (const auto& p : m.paragraphs) in.methods_text += p + "\n\n";
+    in.methods_text += "References:";
+    for (const auto& r : m.references) in.methods_text += "\n\n" + r;
+  }
   for (const auto& g : c.groups) {
     report::GroupResults gr;
     gr.name = g.name;

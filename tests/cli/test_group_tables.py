@@ -264,6 +264,31 @@ class GroupTables(unittest.TestCase):
             html = f.read()
         self.assertTrue('id="quality-table"' in html and "broken.tsv" in html, "the failure is in the report")
 
+    def test_methods_paragraph_follows_the_config(self):
+        # The paragraph is generated from the resolved config: every setting named here
+        # comes from CONFIG / the compare options above; every citation in the text has
+        # its entry in the reference list and no unused method is cited.
+        target = os.path.join(self.tmp.name, "elsewhere", "report.html")
+        os.makedirs(os.path.dirname(target), exist_ok=True)
+        run("report", self.out, "--out", target)
+        with open(os.path.join(os.path.dirname(target), "methods.md")) as f:
+            md = f.read()
+        text, refs = md.split("## References")
+        for phrase in ["0.01-0.2 Hz", "order 2", "Pearson correlation", "from 0 to 0.6 in steps of 0.025",
+                       f"drawing {RESAMPLES} random relabellings", "age was regressed out", "Hedges & Olkin 1985",
+                       "Knill 2011", "not a medical device"]:
+            self.assertIn(phrase, text)
+        for cited, first_author in [("Butterworth 1930", "Butterworth S"), ("Hedges 1981", "Hedges LV (1981)"),
+                                    ("Benjamini & Hochberg 1995", "Benjamini Y"), ("Knill 2011", "Knill O"),
+                                    ("Maris & Oostenveld 2007", "Maris E"), ("Phipson & Smyth 2010", "Phipson B")]:
+            self.assertIn(cited, text)
+            self.assertIn(first_author, refs)
+        for unused in ["Ledoit", "Lachaux", "Maslov", "Theiler", "Edelsbrunner"]:  # no such method in this run
+            self.assertNotIn(unused, md)
+        with open(target) as f:
+            html = f.read()
+        self.assertTrue('id="methods"' in html and "Butterworth S (1930)" in html, "the report holds the paragraph")
+
     def test_unknown_primary_is_named(self):
         p = subprocess.run([CLI, "compare", self.out, "--options", json.dumps({"primary": ["no_such_summary"]})],
                            capture_output=True, text=True)
