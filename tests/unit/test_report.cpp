@@ -2,7 +2,10 @@
 // text escaped, shapes checked with messages naming the group and curve.
 #include <catch2/catch.hpp>
 
+#include <algorithm>
 #include <cmath>
+#include <string>
+#include <vector>
 
 #include "base/error.hpp"
 #include "report/report.hpp"
@@ -93,6 +96,38 @@ TEST_CASE("figures: the null apart, zero points, subject curves, clusters, null 
   // The histogram's bars: one per bin; the shapes are checked.
   in.null_histograms[0].edges = {0, 1};
   CHECK_THROWS_AS(build_report(in), Error);
+}
+
+// WCAG 2.1 relative luminance of "#rrggbb" (W3C open standard, sRGB linearisation).
+double luminance(const std::string& hex) {
+  auto channel = [&](int at) {
+    const double c = std::stoi(hex.substr(static_cast<std::size_t>(at), 2), nullptr, 16) / 255.0;
+    return c <= 0.04045 ? c / 12.92 : std::pow((c + 0.055) / 1.055, 2.4);
+  };
+  return 0.2126 * channel(1) + 0.7152 * channel(3) + 0.0722 * channel(5);
+}
+double contrast(double a, double b) { return (std::max(a, b) + 0.05) / (std::min(a, b) + 0.05); }
+
+TEST_CASE("palette: 3:1 against the white plot area, first two groups apart in lightness", "[report]") {
+  // reference: WCAG 2.1 (W3C), relative luminance and contrast ratio; 3:1 is its
+  // minimum for graphical objects (success criterion 1.4.11).
+  ReportInput in = small_input();
+  for (int k = 2; k < 6; ++k) {
+    GroupResults g = in.groups[0];
+    g.name = "group" + std::to_string(k);
+    in.groups.push_back(g);
+  }
+  const std::string html = build_report(in);
+  std::vector<std::string> colours;
+  for (std::size_t at = html.find("class=\"legend\""); colours.size() < 6 && at != std::string::npos;) {
+    const std::size_t stroke = html.rfind("<line", at);
+    const std::size_t c = html.find("stroke=\"#", stroke);
+    colours.push_back(html.substr(c + 8, 7));
+    at = html.find("class=\"legend\"", at + 1);
+  }
+  REQUIRE(colours.size() == 6);
+  for (const auto& c : colours) CHECK(contrast(luminance(c), 1.0) >= 3.0);
+  CHECK(contrast(luminance(colours[0]), luminance(colours[1])) >= 2.0);
 }
 
 TEST_CASE("a NaN breaks a line instead of drawing through it", "[report]") {
