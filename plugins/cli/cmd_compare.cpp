@@ -6,6 +6,20 @@
 namespace critplex_cli {
 namespace {
 
+// "a,b,,c" -> ["a", "b", "c"]
+nlohmann::json name_list(const std::string& v) {
+  nlohmann::json list = nlohmann::json::array();
+  std::size_t start = 0;
+  while (start <= v.size()) {
+    auto comma = v.find(',', start);
+    std::string name = v.substr(start, comma == std::string::npos ? std::string::npos : comma - start);
+    if (!name.empty()) list.push_back(name);
+    if (comma == std::string::npos) break;
+    start = comma + 1;
+  }
+  return list;
+}
+
 nlohmann::json compare_options(const Args& args) {
   nlohmann::json o = nlohmann::json::object();
   if (auto v = args.value("options")) {
@@ -16,18 +30,8 @@ nlohmann::json compare_options(const Args& args) {
     }
   }
   if (auto v = args.value("band")) o["band"] = *v;
-  if (auto v = args.value("covariates")) {
-    nlohmann::json list = nlohmann::json::array();
-    std::size_t start = 0;
-    while (start <= v->size()) {
-      auto comma = v->find(',', start);
-      std::string name = v->substr(start, comma == std::string::npos ? std::string::npos : comma - start);
-      if (!name.empty()) list.push_back(name);
-      if (comma == std::string::npos) break;
-      start = comma + 1;
-    }
-    o["covariates"] = list;
-  }
+  if (auto v = args.value("covariates")) o["covariates"] = name_list(*v);
+  if (auto v = args.value("primary")) o["primary"] = name_list(*v);
   if (args.has("seed")) o["seed"] = args.integer("seed", 1);
   if (args.has("resamples")) o["resamples"] = args.integer("resamples", 9999);
   return o;
@@ -68,6 +72,7 @@ const Registration registration{Command{
     "cluster permutation tests along the density axis and the null baselines.",
     {{"band", "NAME", "which band to compare (default: the first)"},
      {"covariates", "A,B", "manifest columns regressed out of every summary (e.g. age)"},
+     {"primary", "A,B", "headline summaries, first in the table, with their permutation null drawn (e.g. first_chi_zero)"},
      {"seed", "N", "seed of the Monte Carlo relabellings and bootstrap (default 1)"},
      {"resamples", "N", "Monte Carlo relabellings when exact enumeration is too large (default 9999)"},
      {"options", "JSON", "compare options as a JSON object (README: compare options)"}},
