@@ -79,6 +79,27 @@ class NullRanks(unittest.TestCase):
         self.assertTrue("too few null draws" in html, "the report states the warning")
         self.assertTrue("percentile rank" in html, "the report shows percentile ranks")
 
+    def test_documents_of_an_earlier_version_lose_a_z_from_few_draws(self):
+        out, docs = self.cohort("older", {"model": "rewire", "count": 9, "seed": 2})
+        for entry in sorted(os.listdir(out)):
+            if not entry.endswith("_topology.json"):
+                continue
+            path = os.path.join(out, entry)
+            with open(path) as f:
+                doc = json.load(f)
+            first = doc["bands"][0]["null"]["first_chi_zero"]
+            for key in ("min_draws_for_z", "percentile", "percentile_resolution", "warning"):
+                first.pop(key)
+            first["z"] = 42.0  # what an earlier version wrote from 9 draws
+            with open(path, "w") as f:
+                json.dump(doc, f)
+        run("compare", out, "--resamples", "99")
+        with open(os.path.join(out, "group_comparison.json")) as f:
+            comparison = json.load(f)
+        for g in comparison["groups"]:
+            self.assertTrue(all(v is None for v in g["summaries"]["first_chi_zero_null_z"]))
+        self.assertTrue(any("earlier version" in w for w in comparison["warnings"]))
+
     def test_enough_draws_give_a_z_score(self):
         _, docs = self.cohort("enough", {"model": "rewire", "count": 6, "seed": 2, "min_draws_for_z": 5})
         checked = 0
