@@ -533,6 +533,13 @@ std::vector<SummaryTestRow> compare_summaries(const SummaryComparisonInput& in, 
     row.raw_mean_b = mean(xb);
     row.raw_sd_a = std::sqrt(sample_variance(xa));
     row.raw_sd_b = std::sqrt(sample_variance(xb));
+    // One value for every subject: nothing to test (covariate residuals would be rounding noise).
+    const auto same = [&](double x) { return x == xa.front(); };
+    if (std::all_of(xa.begin(), xa.end(), same) && std::all_of(xb.begin(), xb.end(), same)) {
+      row.note = "every subject has the same value: not tested";
+      rows.push_back(row);
+      continue;
+    }
     try {
       if (adjust) {
         const auto na = static_cast<Eigen::Index>(xa.size()), nb = static_cast<Eigen::Index>(xb.size());
