@@ -146,11 +146,18 @@ std::string report_html(const Comparison& c, const std::string& created) {
     row.p_value = r.p_value;
     row.p_adjusted = t.row.p_adjusted;
     row.method = method_of(r, c.options.seed);
-    if (t.row.summary == "first_chi_zero" && in.transition_test_note.empty()) {
-      char buf[256];
-      std::snprintf(buf, sizeof buf, "%s vs %s: difference in means %.4f, Hedges g %.2f, permutation p = %.4g (%s)",
-                    t.group_a.c_str(), t.group_b.c_str(), row.value, row.hedges_g, row.p_value, row.method.c_str());
-      in.transition_test_note = buf;
+    // The test of each strip plot's summary, printed under it (the first group pair).
+    std::string* note = t.row.summary == "first_chi_zero"                   ? &in.transition_test_note
+                        : t.row.summary == "first_chi_zero_null_z"          ? &in.z_test_note
+                        : t.row.summary == "first_chi_zero_null_percentile" ? &in.rank_test_note
+                        : t.row.summary == "kappa_sd_at_first_chi_zero"     ? &in.curvature_test_note
+                                                                            : nullptr;
+    if (note && note->empty()) {
+      char buf[320];
+      std::snprintf(buf, sizeof buf, "%s vs %s: %s %.4g, Hedges g %.2f, permutation p = %.4g (%s)", t.group_a.c_str(),
+                    t.group_b.c_str(), c.options.statistic == "mean_difference" ? "difference in means" : c.options.statistic.c_str(),
+                    row.value, row.hedges_g, row.p_value, row.method.c_str());
+      *note = buf;
     }
     if (t.headline && t.null_histogram && !t.null_histogram->counts.empty()) {
       report::HistogramPlot hp;

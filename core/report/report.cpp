@@ -597,10 +597,12 @@ std::string build_report(const ReportInput& in) {
   StripPlot first{"First transition per subject", "first chi zero (edge density)", in.transition_test_note, {}};
   StripPlot curvature{"Node curvature SD per subject",
                       "SD of node curvature at the first transition",
-                      "Each point summarises one subject's regions (their SD), so subjects, not nodes, are the units.", {}};
-  StripPlot zscores{"First transition against the null model", "z-score (null SD units)", "", {}};
+                      "Each point summarises one subject's regions (their SD), so subjects, not nodes, are the units." +
+                          (in.curvature_test_note.empty() ? "" : " " + in.curvature_test_note), {}};
+  StripPlot zscores{"First transition against the null model", "z-score (null SD units)", in.z_test_note, {}};
   StripPlot ranks{"Percentile rank among null draws", "percentile rank of the first transition (fraction)",
-                  "Mid-rank of the subject's first transition among its null draws and itself; resolution 1/(draws+1).",
+                  "Mid-rank of the subject's first transition among its null draws and itself; resolution "
+                  "1/(draws+1)." + (in.rank_test_note.empty() ? "" : " " + in.rank_test_note),
                   {}};
   bool any_curvature = false, any_z = false, any_rank = false;
   for (std::size_t k = 0; k < in.groups.size(); ++k) {

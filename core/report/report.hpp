@@ -127,6 +127,7 @@ struct ReportInput {
   std::optional<NullBaseline> null_baseline;
   std::vector<TestRow> tests;
   std::string transition_test_note;  // shown under the strip plot of first transitions
+  std::string z_test_note, rank_test_note, curvature_test_note;  // under the other strip plots
   std::vector<std::string> warnings; // shown in a box at the top (e.g. too few null draws)
   std::vector<Shade> chi_clusters;   // cluster ranges of the chi test to shade (with their p-values)
   std::string cluster_note;          // how the clusters were tested
