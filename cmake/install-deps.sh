@@ -11,7 +11,8 @@ reference_pkgs=(python3 python3-numpy python3-scipy python3-sklearn python3-stat
                 r-base-core r-cran-corpcor clang libclang-rt-14-dev octave liboctave-dev time
                 python3-nipype snakemake slurm-wlm munge
                 python3-pip python3-setuptools python3-venv python3-pandas
-                r-base-dev r-cran-testthat r-cran-jsonlite r-cran-knitr r-cran-markdown)
+                r-base-dev r-cran-testthat r-cran-jsonlite r-cran-knitr r-cran-markdown
+                chromium)
 
 want=("${build_pkgs[@]}")
 for arg in "$@"; do

@@ -1,7 +1,10 @@
 // Whole subjects and cohorts.
+#include <filesystem>
+
 #include "guard.hpp"
 #include "output/subject.hpp"
 #include "pipeline/cohort.hpp"
+#include "pipeline/methods.hpp"
 #include "pipeline/subject.hpp"
 
 using namespace critplex;
@@ -42,6 +45,7 @@ cpx_status cpx_cohort_run(const char* manifest_path, const char* config_json, co
 #include "io/files.hpp"
 #include "output/comparison.hpp"
 #include "pipeline/compare.hpp"
+#include "pipeline/methods.hpp"
 #include "pipeline/study.hpp"
 
 extern "C" {
@@ -70,7 +74,13 @@ cpx_status cpx_cohort_report(const char* dir, const char* options_json, char** r
     } catch (const Json::parse_error& e) {
       fail(ErrorKind::parse, "'" + source + "': not valid JSON (" + e.what() + ")");
     }
-    io::write_file_atomically(out, pipeline::report_html(output::read_comparison(comparison, source), created));
+    // Both texts first, then the files: a failure leaves neither.
+    const pipeline::Comparison c = output::read_comparison(comparison, source);
+    const std::string html = pipeline::report_html(c, created);
+    const std::string methods = pipeline::methods_markdown(pipeline::methods_text(c));
+    const std::string folder = std::filesystem::path(out).parent_path().string();
+    io::write_file_atomically(out, html);
+    io::write_file_atomically((folder.empty() ? std::string(".") : folder) + "/methods.md", methods);
     *report_path = copy_string(out);
   });
 }

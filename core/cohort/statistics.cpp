@@ -91,6 +91,30 @@ double hedges_correction(double df) {
   return std::exp(std::lgamma(df / 2.0) - 0.5 * std::log(df / 2.0) - std::lgamma((df - 1.0) / 2.0));
 }
 
+double normal_quantile(double p) {
+  if (!(p > 0.0 && p < 1.0)) fail(ErrorKind::argument, "normal quantile: probability must be in (0, 1), got " + std::to_string(p));
+  // Phi(x) = erfc(-x / sqrt 2) / 2 is increasing; halve [-40, 40] until the ends meet.
+  double lo = -40.0, hi = 40.0;
+  for (int i = 0; i < 200 && lo < hi; ++i) {
+    const double mid = 0.5 * (lo + hi);
+    if (mid <= lo || mid >= hi) break;
+    (0.5 * std::erfc(-mid / std::sqrt(2.0)) < p ? lo : hi) = mid;
+  }
+  return 0.5 * (lo + hi);
+}
+
+Interval hedges_g_interval(double g, std::size_t n_a, std::size_t n_b, double confidence) {
+  if (!(confidence > 0.0 && confidence < 1.0)) fail(ErrorKind::argument, "effect-size interval: confidence must be in (0, 1)");
+  Interval out;
+  if (!std::isfinite(g) || n_a < 1 || n_b < 1) return out;
+  const double na = static_cast<double>(n_a), nb = static_cast<double>(n_b);
+  const double se = std::sqrt((na + nb) / (na * nb) + g * g / (2.0 * (na + nb)));
+  const double z = normal_quantile(0.5 * (1.0 + confidence));
+  out.lower = g - z * se;
+  out.upper = g + z * se;
+  return out;
+}
+
 EffectSize hedges_g(const std::vector<double>& a, const std::vector<double>& b) {
   EffectSize e;
   e.cohen_d = mean_difference(a, b) / std::sqrt(pooled_variance(a, b));
@@ -308,6 +332,7 @@ PermutationResult permutation_test(const std::vector<double>& a, const std::vect
                                               options.seed, [&](const std::vector<std::size_t>& members) {
                                                 split(pooled, members, xa, xb);
                                                 const double s = compute_statistic(options.statistic, xa, xb);
+                                                result.null_statistics.push_back(s);
                                                 if (s <= result.statistic + gamma) ++at_most;
                                                 if (s >= result.statistic - gamma) ++at_least;
                                               });
@@ -349,6 +374,7 @@ Band bootstrap_mean_band(const Eigen::MatrixXd& curves, const BootstrapOptions& 
     sum.setZero();
     for (Eigen::Index i = 0; i < n; ++i) sum += by_subject.col(static_cast<Eigen::Index>(random.below(static_cast<std::uint64_t>(n))));
     sum /= static_cast<double>(n);
+    ++band.resamples;  // counted as drawn, so the reported number is the one used
   }
   const double alpha = (1.0 - options.confidence) / 2.0;
   band.lower.resize(band.mean.size());
@@ -507,6 +533,13 @@ std::vector<SummaryTestRow> compare_summaries(const SummaryComparisonInput& in, 
     row.raw_mean_b = mean(xb);
     row.raw_sd_a = std::sqrt(sample_variance(xa));
     row.raw_sd_b = std::sqrt(sample_variance(xb));
+    // One value for every subject: nothing to test (covariate residuals would be rounding noise).
+    const auto same = [&](double x) { return x == xa.front(); };
+    if (std::all_of(xa.begin(), xa.end(), same) && std::all_of(xb.begin(), xb.end(), same)) {
+      row.note = "every subject has the same value: not tested";
+      rows.push_back(row);
+      continue;
+    }
     try {
       if (adjust) {
         const auto na = static_cast<Eigen::Index>(xa.size()), nb = static_cast<Eigen::Index>(xb.size());
@@ -520,6 +553,8 @@ std::vector<SummaryTestRow> compare_summaries(const SummaryComparisonInput& in, 
         for (Eigen::Index i = 0; i < nb; ++i) xb[static_cast<std::size_t>(i)] = r(na + i);
       }
       row.result = permutation_test(xa, xb, options);
+      row.on_residuals = adjust;
+      row.g_interval = hedges_g_interval(row.result.effect.hedges_g, xa.size(), xb.size(), in.effect_confidence);
     } catch (const Error& e) {
       fail(e.kind(), "summary '" + in.names[s] + "': " + e.what());
     }

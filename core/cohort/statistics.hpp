@@ -54,6 +54,19 @@ struct EffectSize {
 EffectSize hedges_g(const std::vector<double>& a, const std::vector<double>& b);
 double hedges_correction(double df);
 
+// Confidence interval of Hedges' g by the large-sample normal approximation of Hedges &
+// Olkin (1985, Statistical Methods for Meta-Analysis, ch. 5):
+//   var(g) ~ (n_a + n_b) / (n_a n_b) + g^2 / (2 (n_a + n_b)),  g -/+ z_{(1+c)/2} sqrt(var(g)).
+struct Interval {
+  double lower = std::numeric_limits<double>::quiet_NaN();
+  double upper = std::numeric_limits<double>::quiet_NaN();
+};
+Interval hedges_g_interval(double g, std::size_t n_a, std::size_t n_b, double confidence);
+
+// Standard normal quantile (inverse of Phi), p in (0, 1); bisection on std::erfc to
+// full double precision.
+double normal_quantile(double p);
+
 // Student t distribution: lower tail P(T <= t) and its inverse (for cluster thresholds
 // and parametric p-values). Via the regularised incomplete beta function (DLMF 8.17).
 double student_t_cdf(double t, double df);
@@ -88,6 +101,7 @@ struct PermutationResult {
   double p_value = 1.0;
   bool exact = false;           // all relabellings enumerated
   std::uint64_t null_size = 0;  // relabellings in the null distribution
+  std::vector<double> null_statistics;  // the statistic under each relabelling (null_size of them)
   std::size_t n_a = 0, n_b = 0;
   double mean_a = 0.0, mean_b = 0.0;
   EffectSize effect;
@@ -106,6 +120,7 @@ struct BootstrapOptions {
 
 struct Band {
   std::vector<double> mean, lower, upper;  // one per point
+  std::uint64_t resamples = 0;             // bootstrap resamples actually drawn (0: not a bootstrap band)
 };
 
 // curves: subjects x points, finite. Resamples whole subjects (rows) with replacement,
@@ -158,6 +173,7 @@ struct SummaryComparisonInput {
   std::vector<std::vector<double>> a, b;    // [summary][subject]
   Eigen::MatrixXd covariates_a, covariates_b;  // subjects x covariates (0 columns: none)
   std::vector<std::string> covariate_names;
+  double effect_confidence = 0.95;  // level of the Hedges g interval
 };
 
 struct SummaryTestRow {
@@ -171,6 +187,8 @@ struct SummaryTestRow {
   double raw_mean_a = 0, raw_mean_b = 0, raw_sd_a = 0, raw_sd_b = 0;
   double adjusted_mean_a = std::numeric_limits<double>::quiet_NaN();
   double adjusted_mean_b = std::numeric_limits<double>::quiet_NaN();
+  bool on_residuals = false;  // statistic, p and g are of the covariate residuals
+  Interval g_interval;        // Hedges & Olkin (1985) interval of result.effect.hedges_g
 };
 
 std::vector<SummaryTestRow> compare_summaries(const SummaryComparisonInput& input, const PermutationOptions& options);

@@ -1,6 +1,8 @@
 #include "output/comparison.hpp"
 
+#include <algorithm>
 #include <cmath>
+#include <cstdio>
 #include <limits>
 
 #include "base/error.hpp"
@@ -13,16 +15,30 @@ namespace {
 
 const double nan_value = std::numeric_limits<double>::quiet_NaN();
 
-Json options_json(const pipeline::CompareOptions& o) {
+}  // namespace
+
+Json compare_options_json(const pipeline::CompareOptions& o) {
   return {{"band", o.band},         {"groups", o.groups},         {"statistic", o.statistic},
           {"exact_limit", o.exact_limit}, {"resamples", o.resamples}, {"seed", o.seed},
-          {"confidence", o.confidence}, {"covariates", o.covariates}, {"cluster_curves", o.cluster_curves}};
+          {"confidence", o.confidence}, {"covariates", o.covariates}, {"cluster_curves", o.cluster_curves},
+          {"primary", o.primary}};
 }
+
+namespace {
+
+std::string joined(const std::vector<std::string>& names, const char* separator) {
+  std::string out;
+  for (const auto& n : names) out += (out.empty() ? "" : separator) + n;
+  return out;
+}
+
+Json histogram_json(const pipeline::NullHistogram& h) { return {{"edges", h.edges}, {"counts", h.counts}}; }
 
 Json test_json(const pipeline::SummaryTest& t) {
   const cohort::SummaryTestRow& r = t.row;
   Json j{{"summary", r.summary}, {"label", summary_label(r.summary)}, {"group_a", t.group_a}, {"group_b", t.group_b},
-         {"n_a", r.n_a},         {"n_b", r.n_b},                     {"missing_a", r.missing_a}, {"missing_b", r.missing_b}};
+         {"n_a", r.n_a},         {"n_b", r.n_b},                     {"missing_a", r.missing_a}, {"missing_b", r.missing_b},
+         {"headline", t.headline}};
   if (!r.tested) {
     j["note"] = r.note;
     return j;
@@ -34,8 +50,12 @@ Json test_json(const pipeline::SummaryTest& t) {
   j["covariates"] = t.covariates;
   j["adjusted_mean_a"] = number_or_null(r.adjusted_mean_a);
   j["adjusted_mean_b"] = number_or_null(r.adjusted_mean_b);
-  j["value"] = r.result.statistic;
-  j["hedges_g"] = r.result.effect.hedges_g;
+  j["value"] = number_or_null(r.result.statistic);
+  j["hedges_g"] = number_or_null(r.result.effect.hedges_g);  // null when both groups are constant
+  j["hedges_g_lower"] = number_or_null(r.g_interval.lower);
+  j["hedges_g_upper"] = number_or_null(r.g_interval.upper);
+  j["tested_on"] = r.on_residuals ? "covariate residuals" : "values";
+  if (t.null_histogram) j["null_histogram"] = histogram_json(*t.null_histogram);
   j["p_value"] = r.result.p_value;
   j["p_adjusted"] = number_or_null(r.p_adjusted);
   j["exact"] = r.result.exact;
@@ -64,11 +84,42 @@ Json cluster_json(const pipeline::ClusterTest& t) {
 
 }  // namespace
 
+std::string multiple_comparison_family(const pipeline::Comparison& c) {
+  std::size_t tested = 0;
+  std::vector<std::string> summaries;
+  for (const auto& t : c.tests)
+    if (t.row.tested) {
+      ++tested;
+      if (std::find(summaries.begin(), summaries.end(), t.row.summary) == summaries.end()) summaries.push_back(t.row.summary);
+    }
+  return "Benjamini-Hochberg (1995) false discovery rate over one family: all " + std::to_string(tested) +
+         " tested rows of the table (" + std::to_string(summaries.size()) + " summaries x " +
+         std::to_string(c.groups.empty() ? 0 : c.groups.size() - 1) +
+         " group pairs); cluster p-values are family-wise along the density axis by the largest cluster mass and are "
+         "not in this family";
+}
+
+std::string covariate_model(const pipeline::Comparison& c) {
+  if (c.options.covariates.empty()) return "";
+  const std::string cov = joined(c.options.covariates, " + ");
+  return "summary ~ 1 + group + " + cov +
+         " (ordinary least squares, pooled over both groups of a pair); adjusted means are this fit at the "
+         "covariates' mean; the test statistic, p-value and Hedges g are those of the residuals of summary ~ 1 + " + cov;
+}
+
+std::string effect_size_method(const pipeline::Comparison& c) {
+  char buf[64];
+  std::snprintf(buf, sizeof buf, "%g%%", 100.0 * c.options.confidence);
+  return std::string("Hedges g (Hedges 1981, exact small-sample correction) with a ") + buf +
+         " interval from the normal approximation of Hedges & Olkin (1985): var(g) = (n_a + n_b)/(n_a n_b) + "
+         "g^2/(2 (n_a + n_b))";
+}
+
 Json comparison_json(const pipeline::Comparison& c) {
   Json doc;
   doc["kind"] = "critplex group comparison";
   doc["format_version"] = 2;
-  doc["options"] = options_json(c.options);
+  doc["options"] = compare_options_json(c.options);
   doc["statistic"] = c.options.statistic;
   doc["regions"] = c.regions;
   doc["density"] = c.density;
@@ -76,17 +127,29 @@ Json comparison_json(const pipeline::Comparison& c) {
   for (const auto& g : c.groups) {
     Json gd{{"name", g.name}, {"subjects", g.subjects}};
     Json curves = Json::object();
-    for (const auto& [name, band] : g.curves) curves[name] = band_json(band);
+    for (const auto& [name, band] : g.curves) {
+      curves[name] = band_json(band);
+      curves[name]["resamples"] = band.resamples;
+    }
     gd["curves"] = std::move(curves);
     Json summaries = Json::object();
     for (const auto& [name, values] : g.summaries) summaries[name] = numbers_or_null(values);
     gd["summaries"] = std::move(summaries);
     gd["curvature_at_transition"] = numbers_or_null(g.curvature_at_transition);
+    Json traces = Json::array();
+    for (const auto& t : g.subject_chi) traces.push_back(numbers_or_null(t));
+    gd["subject_chi"] = std::move(traces);
     groups.push_back(std::move(gd));
   }
   doc["groups"] = std::move(groups);
-  doc["bootstrap"] = {{"resamples", c.options.resamples}, {"confidence", c.options.confidence},
+  std::uint64_t drawn = 0;
+  for (const auto& g : c.groups)
+    for (const auto& [name, band] : g.curves) drawn = std::max(drawn, band.resamples);
+  doc["bootstrap"] = {{"resamples", drawn}, {"resamples_asked", c.options.resamples}, {"confidence", c.options.confidence},
                       {"method", "percentile bootstrap of the mean curve, resampling subjects"}};
+  doc["multiple_comparisons"] = multiple_comparison_family(c);
+  doc["covariate_model"] = c.options.covariates.empty() ? Json(nullptr) : Json(covariate_model(c));
+  doc["effect_size"] = effect_size_method(c);
   Json tests = Json::array();
   for (const auto& t : c.tests) tests.push_back(test_json(t));
   doc["tests"] = std::move(tests);
@@ -98,14 +161,16 @@ Json comparison_json(const pipeline::Comparison& c) {
                                                 {"chi", numbers_or_null(c.null_baseline->chi)}}
                                          : Json(nullptr);
   doc["missing"] = c.missing;
+  doc["warnings"] = c.warnings;
+  doc["provenance"] = c.provenance;
   doc["caution"] = "Research software, not a medical device: not for clinical decisions.";
   return doc;
 }
 
 std::string group_tests_tsv(const pipeline::Comparison& c) {
   Tsv tsv({"summary", "group_a", "group_b", "n_a", "n_b", "mean_a", "sd_a", "mean_b", "sd_b", "covariates",
-           "adjusted_mean_a", "adjusted_mean_b", "statistic", "value", "hedges_g", "p_value", "p_adjusted", "exact",
-           "null_size", "note"});
+           "adjusted_mean_a", "adjusted_mean_b", "statistic", "value", "hedges_g", "hedges_g_lower", "hedges_g_upper",
+           "p_value", "p_adjusted", "exact", "null_size", "tested_on", "headline", "note"});
   const std::string na = missing;
   for (const auto& t : c.tests) {
     const cohort::SummaryTestRow& r = t.row;
@@ -113,14 +178,15 @@ std::string group_tests_tsv(const pipeline::Comparison& c) {
     for (const auto& name : t.covariates) covariates += (covariates.empty() ? "" : ",") + name;
     if (!r.tested) {
       tsv.add({r.summary, t.group_a, t.group_b, cell(r.n_a), cell(r.n_b), na, na, na, na, na, na, na, na, na, na, na,
-               na, na, na, r.note});
+               na, na, na, na, na, na, cell(t.headline), r.note});
       continue;
     }
     tsv.add({r.summary, t.group_a, t.group_b, cell(r.n_a), cell(r.n_b), cell(r.raw_mean_a), cell(r.raw_sd_a),
              cell(r.raw_mean_b), cell(r.raw_sd_b), covariates.empty() ? na : covariates, cell(r.adjusted_mean_a),
              cell(r.adjusted_mean_b), c.options.statistic, cell(r.result.statistic), cell(r.result.effect.hedges_g),
-             cell(r.result.p_value), cell(r.p_adjusted), cell(r.result.exact), cell(static_cast<std::size_t>(r.result.null_size)),
-             na});
+             cell(r.g_interval.lower), cell(r.g_interval.upper), cell(r.result.p_value), cell(r.p_adjusted),
+             cell(r.result.exact), cell(static_cast<std::size_t>(r.result.null_size)),
+             r.on_residuals ? "covariate residuals" : "values", cell(t.headline), na});
   }
   return tsv.text();
 }
@@ -136,7 +202,9 @@ std::vector<double> numbers(const Json& array) {
   return v;
 }
 
-cohort::Band band_of(const Json& b) { return {numbers(b.at("mean")), numbers(b.at("lower")), numbers(b.at("upper"))}; }
+cohort::Band band_of(const Json& b) {
+  return {numbers(b.at("mean")), numbers(b.at("lower")), numbers(b.at("upper")), b.value("resamples", std::uint64_t{0})};
+}
 
 }  // namespace
 
@@ -159,6 +227,7 @@ pipeline::Comparison read_comparison(const Json& doc, const std::string& path) {
       for (auto it = gd.at("summaries").begin(); it != gd.at("summaries").end(); ++it)
         g.summaries[it.key()] = numbers(it.value());
       g.curvature_at_transition = numbers(gd.at("curvature_at_transition"));
+      for (const auto& t : gd.value("subject_chi", Json::array())) g.subject_chi.push_back(numbers(t));
       c.groups.push_back(std::move(g));
     }
     for (const auto& tj : doc.at("tests")) {
@@ -172,6 +241,7 @@ pipeline::Comparison read_comparison(const Json& doc, const std::string& path) {
       r.missing_a = tj.value("missing_a", std::size_t{0});
       r.missing_b = tj.value("missing_b", std::size_t{0});
       r.tested = !tj.contains("note");
+      t.headline = tj.value("headline", false);
       if (!r.tested) {
         r.note = tj.at("note").get<std::string>();
       } else {
@@ -182,12 +252,19 @@ pipeline::Comparison read_comparison(const Json& doc, const std::string& path) {
         r.raw_sd_b = tj.at("sd_b").get<double>();
         r.adjusted_mean_a = number_or_nan(tj.at("adjusted_mean_a"));
         r.adjusted_mean_b = number_or_nan(tj.at("adjusted_mean_b"));
-        r.result.statistic = tj.at("value").get<double>();
-        r.result.effect.hedges_g = tj.at("hedges_g").get<double>();
+        r.result.statistic = number_or_nan(tj.at("value"));
+        r.result.effect.hedges_g = number_or_nan(tj.at("hedges_g"));
         r.result.p_value = tj.at("p_value").get<double>();
         r.p_adjusted = number_or_nan(tj.at("p_adjusted"));
         r.result.exact = tj.at("exact").get<bool>();
         r.result.null_size = tj.at("null_size").get<std::uint64_t>();
+        r.g_interval.lower = number_or_nan(tj.value("hedges_g_lower", Json()));
+        r.g_interval.upper = number_or_nan(tj.value("hedges_g_upper", Json()));
+        r.on_residuals = tj.value("tested_on", "values") == "covariate residuals";
+        if (tj.contains("null_histogram")) {
+          const Json& h = tj.at("null_histogram");
+          t.null_histogram = pipeline::NullHistogram{numbers(h.at("edges")), h.at("counts").get<std::vector<std::uint64_t>>()};
+        }
         r.result.n_a = r.n_a;
         r.result.n_b = r.n_b;
       }
@@ -220,6 +297,8 @@ pipeline::Comparison read_comparison(const Json& doc, const std::string& path) {
                                                numbers(nb.at("chi"))};
     }
     c.missing = doc.at("missing").get<std::vector<std::string>>();
+    c.warnings = doc.value("warnings", std::vector<std::string>{});
+    c.provenance = doc.value("provenance", Json());
   } catch (const Json::exception& e) {
     fail(ErrorKind::parse, "'" + path + "': malformed group comparison (" + e.what() + ")");
   }

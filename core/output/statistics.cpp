@@ -48,6 +48,8 @@ Json summary_rows_json(const std::vector<cohort::SummaryTestRow>& rows, const co
     j["sd_b"] = row.raw_sd_b;
     j["adjusted_mean_a"] = number_or_null(row.adjusted_mean_a);
     j["adjusted_mean_b"] = number_or_null(row.adjusted_mean_b);
+    j["hedges_g_lower"] = number_or_null(row.g_interval.lower);
+    j["hedges_g_upper"] = number_or_null(row.g_interval.upper);
     out.push_back(j);
   }
   return out;

@@ -29,6 +29,10 @@ Json null_json(const pipeline::NullResult& n) {
   first["mean"] = number_or_null(n.mean());
   first["sd"] = number_or_null(n.sd());
   first["z"] = number_or_null(n.z());
+  first["min_draws_for_z"] = n.spec.min_draws_for_z;
+  first["percentile"] = number_or_null(n.percentile());
+  first["percentile_resolution"] = number_or_null(n.percentile_resolution());
+  first["warning"] = n.warning().empty() ? Json(nullptr) : Json(n.warning());
   j["first_chi_zero"] = std::move(first);
   j["mean_chi"] = numbers_or_null(n.mean_chi);
   Json details = Json::object();
@@ -46,7 +50,8 @@ Json resolved_config_json(const pipeline::SubjectConfig& c) {
   Json j;
   j["sweep"] = sweep_options_json(c.sweep);
   j["null"] = Json{{"model", c.null.model}, {"count", c.null.count}, {"seed", c.null.seed},
-                   {"iaaft_iterations", c.null.iaaft_iterations}, {"rewire_swaps_per_edge", c.null.rewire_swaps_per_edge}};
+                   {"iaaft_iterations", c.null.iaaft_iterations}, {"rewire_swaps_per_edge", c.null.rewire_swaps_per_edge},
+                   {"min_draws_for_z", c.null.min_draws_for_z}};
   return j;
 }
 

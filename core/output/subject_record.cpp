@@ -40,7 +40,8 @@ const std::vector<SummaryName>& summary_catalogue() {
       {"kappa_skewness_at_first_chi_zero", "kappa skewness at first chi zero"},
       {"kappa_kurtosis_at_first_chi_zero", "kappa kurtosis at first chi zero"},
       {"forman_mean_at_first_chi_zero", "Forman mean at first chi zero"},
-      {"first_chi_zero_null_z", "first chi zero, z against the null"}};
+      {"first_chi_zero_null_z", "first chi zero, z against the null"},
+      {"first_chi_zero_null_percentile", "first chi zero, percentile rank among the null draws"}};
   return names;
 }
 
@@ -141,7 +142,21 @@ SubjectRecord read_subject_record(const std::string& path, const std::string& ba
     s.null_mean_chi = numbers(null.value("mean_chi", Json()));
     const Json first_zero = null.value("first_chi_zero", Json::object());
     s.null_first_zeros = numbers(first_zero.value("values", Json()));
-    found.emplace_back("first_chi_zero_null_z", number_or_nan(first_zero.value("z", Json())));
+    double z = number_or_nan(first_zero.value("z", Json()));
+    if (!first_zero.contains("min_draws_for_z")) {
+      // Written before z needed enough draws: apply today's default rule to it.
+      const auto draws = std::count_if(s.null_first_zeros.begin(), s.null_first_zeros.end(),
+                                       [](double x) { return std::isfinite(x); });
+      if (draws < 100 && !std::isnan(z)) {
+        z = nan_value;
+        s.null_warning = std::to_string(draws) + " null draws with a transition (document from an earlier version), "
+                         "fewer than 100: no z-score";
+      }
+    }
+    found.emplace_back("first_chi_zero_null_z", z);
+    if (first_zero.contains("percentile"))
+      found.emplace_back("first_chi_zero_null_percentile", number_or_nan(first_zero.value("percentile", Json())));
+    if (first_zero.value("warning", Json()).is_string()) s.null_warning = first_zero["warning"].get<std::string>();
   }
   std::stable_sort(found.begin(), found.end(),
                    [](const auto& a, const auto& b) { return summary_rank(a.first) < summary_rank(b.first); });

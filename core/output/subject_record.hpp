@@ -37,6 +37,7 @@ struct SubjectRecord {
   std::string null_model = "none";
   std::vector<double> null_mean_chi;        // the subject's null model's mean chi (empty: none)
   std::vector<double> null_first_zeros;     // per null draw (NaN: none)
+  std::string null_warning;                 // why the null z-score is not given ("" when it is)
 
   double summary(const std::string& name) const;  // NaN when absent
 };

@@ -4,8 +4,10 @@
 #include <limits>
 
 #include "base/error.hpp"
+#include "output/comparison.hpp"
 #include "output/subject_record.hpp"
 #include "pipeline/compare.hpp"
+#include "pipeline/methods.hpp"
 #include "report/report.hpp"
 
 namespace critplex::pipeline {
@@ -36,6 +38,46 @@ std::string method_of(const cohort::PermutationResult& r, std::uint64_t seed) {
                  : "Monte Carlo, " + std::to_string(r.null_size) + " relabellings, seed " + std::to_string(seed);
 }
 
+std::string text_of(const Json& v) {
+  if (v.is_null()) return "n/a";
+  if (v.is_string()) return v.get<std::string>();
+  if (v.is_number_float()) {
+    char buf[32];
+    std::snprintf(buf, sizeof buf, "%.4g", v.get<double>());
+    return buf;
+  }
+  return v.dump();
+}
+
+// The provenance document (pipeline/provenance.hpp) as report tables.
+void add_provenance(const Json& p, report::ReportInput& in) {
+  if (!p.is_object()) return;
+  in.config_given_json = p.value("config_given", Json()).dump(1);
+  in.config_resolved_json = p.value("config_resolved", Json()).dump(1);
+  const Json v = p.value("versions", Json::object());
+  for (auto it = v.begin(); it != v.end(); ++it) in.versions.push_back({it.key(), text_of(it.value())});
+  in.checksums.header = {"subject", "input", "path", "SHA-256"};
+  for (const auto& s : p.value("inputs", Json::array())) {
+    const Json files = s.value("inputs", Json::object());
+    for (auto it = files.begin(); it != files.end(); ++it)
+      in.checksums.rows.push_back({s.value("subject", ""), it.key(), it.value().value("path", ""),
+                                   it.value().value("sha256", "n/a")});
+  }
+  in.quality.header = {"subject", "group", "status", "frames used / total", "censored", "estimator",
+                       "shrinkage intensity", "regions", "regions dropped", "null draws", "message"};
+  for (const auto& q : p.value("quality", Json::array())) {
+    const std::string id = q.value("subject", "") + (q.value("session", "").empty() ? "" : " (" + q.value("session", "") + ")");
+    std::string message = q.value("message", "");
+    if (q.value("null_warning", Json()).is_string()) message += (message.empty() ? "" : "; ") + std::string("too few null draws for a z-score");
+    in.quality.rows.push_back({id, q.value("group", ""), q.value("status", ""),
+                               text_of(q.value("frames_used", Json())) + " / " + text_of(q.value("frames", Json())),
+                               text_of(q.value("frames_censored", Json())), q.value("estimator", "n/a"),
+                               text_of(q.value("shrinkage_intensity", Json())), text_of(q.value("regions", Json())),
+                               text_of(q.value("regions_dropped", Json())), text_of(q.value("null_draws", Json())),
+                               message.empty() ? "" : message});
+  }
+}
+
 }  // namespace
 
 std::string report_html(const Comparison& c, const std::string& created) {
@@ -52,6 +94,14 @@ std::string report_html(const Comparison& c, const std::string& created) {
     in.options_json = options.dump(1);
   }
   in.facts.push_back({"regions (nodes)", std::to_string(c.regions)});
+  in.warnings = c.warnings;
+  add_provenance(c.provenance, in);
+  {
+    const MethodsText m = methods_text(c);
+    for (const auto& p : m.paragraphs) in.methods_text += p + "\n\n";
+    in.methods_text += "References:";
+    for (const auto& r : m.references) in.methods_text += "\n\n" + r;
+  }
   for (const auto& g : c.groups) {
     report::GroupResults gr;
     gr.name = g.name;
@@ -66,7 +116,13 @@ std::string report_html(const Comparison& c, const std::string& created) {
     const auto first = g.summaries.find("first_chi_zero");
     gr.first_transition = first != g.summaries.end() ? first->second : std::vector<double>(g.subjects.size(), nan_value);
     if (const auto z = g.summaries.find("first_chi_zero_null_z"); z != g.summaries.end()) gr.transition_z = z->second;
-    gr.curvature_at_transition = g.curvature_at_transition;
+    if (const auto r = g.summaries.find("first_chi_zero_null_percentile"); r != g.summaries.end())
+      gr.transition_percentile = r->second;
+    // One value per subject (the SD of its regions' curvature), not the pooled nodes.
+    if (const auto k = g.summaries.find("kappa_sd_at_first_chi_zero"); k != g.summaries.end())
+      gr.curvature_at_transition = k->second;
+    gr.subject_chi = g.subject_chi;
+    if (gr.subject_chi.size() != g.subjects.size()) gr.subject_chi.clear();  // written by an older version
     in.groups.push_back(std::move(gr));
   }
   if (c.null_baseline) {
@@ -74,7 +130,6 @@ std::string report_html(const Comparison& c, const std::string& created) {
     nb.label = c.null_baseline->label;
     nb.density = c.null_baseline->density;
     nb.chi = c.null_baseline->chi;
-    for (double x : nb.chi) nb.log_abs_chi.push_back(std::log10(std::fabs(x)));
     in.null_baseline = nb;
     in.facts.push_back({"null baseline", nb.label});
   }
@@ -86,19 +141,54 @@ std::string report_html(const Comparison& c, const std::string& created) {
     row.statistic = c.options.statistic;
     row.value = r.statistic;
     row.hedges_g = r.effect.hedges_g;
+    row.g_lower = t.row.g_interval.lower;
+    row.g_upper = t.row.g_interval.upper;
     row.p_value = r.p_value;
     row.p_adjusted = t.row.p_adjusted;
     row.method = method_of(r, c.options.seed);
-    if (t.row.summary == "first_chi_zero" && in.transition_test_note.empty()) {
-      char buf[256];
-      std::snprintf(buf, sizeof buf, "%s vs %s: difference in means %.4f, Hedges g %.2f, permutation p = %.4g (%s)",
-                    t.group_a.c_str(), t.group_b.c_str(), row.value, row.hedges_g, row.p_value, row.method.c_str());
-      in.transition_test_note = buf;
+    // The test of each strip plot's summary, printed under it (the first group pair).
+    std::string* note = t.row.summary == "first_chi_zero"                   ? &in.transition_test_note
+                        : t.row.summary == "first_chi_zero_null_z"          ? &in.z_test_note
+                        : t.row.summary == "first_chi_zero_null_percentile" ? &in.rank_test_note
+                        : t.row.summary == "kappa_sd_at_first_chi_zero"     ? &in.curvature_test_note
+                                                                            : nullptr;
+    if (note && note->empty()) {
+      char buf[320];
+      std::snprintf(buf, sizeof buf, "%s vs %s: %s %.4g, Hedges g %.2f, permutation p = %.4g (%s)", t.group_a.c_str(),
+                    t.group_b.c_str(), c.options.statistic == "mean_difference" ? "difference in means" : c.options.statistic.c_str(),
+                    row.value, row.hedges_g, row.p_value, row.method.c_str());
+      *note = buf;
+    }
+    if (t.headline && t.null_histogram && !t.null_histogram->counts.empty()) {
+      report::HistogramPlot hp;
+      hp.title = output::summary_label(t.row.summary) + ": " + t.group_a + " vs " + t.group_b;
+      hp.x_label = c.options.statistic + " under relabelling (" + (t.row.on_residuals ? "covariate residuals" : "values") + ")";
+      hp.edges = t.null_histogram->edges;
+      for (auto n : t.null_histogram->counts) hp.counts.push_back(static_cast<double>(n));
+      hp.observed = r.statistic;
+      char buf[160];
+      std::snprintf(buf, sizeof buf, "p = %.4g (%s)", r.p_value, row.method.c_str());
+      hp.note = buf;
+      in.null_histograms.push_back(std::move(hp));
     }
     in.tests.push_back(std::move(row));
   }
+  in.test_notes.push_back("Multiple comparisons: " + output::multiple_comparison_family(c) + ".");
+  in.test_notes.push_back("Effect size: " + output::effect_size_method(c) + ".");
+  if (!c.options.covariates.empty()) in.test_notes.push_back("Covariate model: " + output::covariate_model(c) + ".");
   for (const auto& cl : c.clusters) {
     if (!cl.result) continue;
+    if (cl.curve == "chi") {
+      in.cluster_note = std::string("cluster permutation test of chi, ") + (cl.result->exact ? "exact, " : "Monte Carlo, ") +
+                        std::to_string(cl.result->null_size) + " relabellings";
+      for (const auto& k : cl.result->clusters)
+        if (k.p_value <= 0.05) {
+          char label[120];
+          std::snprintf(label, sizeof label, "p = %.3g%s", k.p_value,
+                        c.groups.size() > 2 ? (" (" + cl.group_a + ")").c_str() : "");
+          in.chi_clusters.push_back({cl.density[k.first], cl.density[k.last], label});
+        }
+    }
     for (const auto& k : cl.result->clusters) {
       report::TestRow row;
       char name[200];

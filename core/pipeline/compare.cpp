@@ -10,6 +10,7 @@
 #include "output/comparison.hpp"
 #include "output/subject.hpp"
 #include "pipeline/cohort.hpp"
+#include "pipeline/provenance.hpp"
 
 namespace critplex::pipeline {
 
@@ -36,7 +37,10 @@ const OptionSection& compare_option_section() {
        {.key = "covariates", .type = "strings",
         .meaning = "manifest columns regressed out of every summary before testing; each must be a column"},
        {.key = "cluster_curves", .type = "strings", .default_value = Json::array({"chi"}),
-        .meaning = "curves given a cluster-based permutation test along the density axis"}}};
+        .meaning = "curves given a cluster-based permutation test along the density axis"},
+       {.key = "primary", .type = "strings", .default_note = "the first summary (first chi zero)",
+        .meaning = "headline summaries: listed first in the tests table, in this order, with their permutation null "
+                   "drawn in the report"}}};
   return section;
 }
 
@@ -52,7 +56,9 @@ CompareOptions parse_compare_options(const Json& options) {
   o.confidence = r.number("confidence");
   o.covariates = r.texts("covariates");
   o.cluster_curves = r.texts("cluster_curves");
+  o.primary = r.texts("primary");
   r.finish();
+  o.given = options.is_null() ? Json::object() : options;
   return o;
 }
 
@@ -119,6 +125,10 @@ GroupResult group_result(const std::string& name, const std::vector<const output
     for (const auto* s : members) v.push_back(s->summary(summary));
     g.summaries[summary] = std::move(v);
   }
+  for (const auto* s : members) {
+    const auto chi = s->curves.find("chi");
+    g.subject_chi.push_back(chi != s->curves.end() ? chi->second : std::vector<double>(points, nan_value));
+  }
   for (const auto* s : members)
     g.curvature_at_transition.insert(g.curvature_at_transition.end(), s->kappa_at_first_zero.begin(),
                                      s->kappa_at_first_zero.end());
@@ -137,6 +147,7 @@ std::vector<SummaryTest> summary_tests(const std::vector<const output::SubjectRe
     in.b.push_back(gb.summaries.at(name));
   }
   in.covariate_names = o.covariates;
+  in.effect_confidence = o.confidence;
   auto covariates = [&](const std::vector<const output::SubjectRecord*>& members) {
     Eigen::MatrixXd m(static_cast<Eigen::Index>(members.size()), static_cast<Eigen::Index>(o.covariates.size()));
     for (std::size_t i = 0; i < members.size(); ++i)
@@ -223,7 +234,67 @@ std::optional<NullBaseline> null_baseline(const std::vector<output::SubjectRecor
   return std::nullopt;
 }
 
+// One line for the subjects whose null draws were too few for a z-score.
+std::vector<std::string> null_warnings(const std::vector<output::SubjectRecord>& subjects) {
+  std::size_t n = 0;
+  std::string example;
+  for (const auto& s : subjects)
+    if (!s.null_warning.empty()) {
+      ++n;
+      if (example.empty()) example = "subject " + s.id + ": " + s.null_warning;
+    }
+  if (n == 0) return {};
+  return {std::to_string(n) + " of " + std::to_string(subjects.size()) +
+          " subjects have too few null draws for a z-score against the null; their percentile ranks are coarse (e.g. " +
+          example + "). Raise null.count to at least null.min_draws_for_z."};
+}
+
+// Moves the primary summaries to the front, in the user's order; each must exist.
+// Returns the headline summaries (the primary list, else the first summary).
+std::vector<std::string> primary_first(std::vector<std::string>& names, const std::vector<std::string>& primary) {
+  std::vector<std::string> ordered;
+  for (const auto& p : primary) {
+    if (std::find(names.begin(), names.end(), p) == names.end()) {
+      std::string known;
+      for (const auto& n : names) known += (known.empty() ? "" : ", ") + n;
+      fail(ErrorKind::argument, "compare options: primary summary \"" + p + "\" is not a summary of these subjects (they have: " + known + ")");
+    }
+    if (std::find(ordered.begin(), ordered.end(), p) == ordered.end()) ordered.push_back(p);
+  }
+  const std::vector<std::string> headlines = ordered.empty() && !names.empty() ? std::vector<std::string>{names[0]} : ordered;
+  for (const auto& n : names)
+    if (std::find(ordered.begin(), ordered.end(), n) == ordered.end()) ordered.push_back(n);
+  names = ordered;
+  return headlines;
+}
+
+// Tests of headline summaries keep a histogram of their permutation null.
+void mark_headlines(std::vector<SummaryTest>& tests, const std::vector<std::string>& headlines) {
+  for (auto& t : tests) {
+    t.headline = std::find(headlines.begin(), headlines.end(), t.row.summary) != headlines.end();
+    if (t.headline && t.row.tested) t.null_histogram = null_histogram(t.row.result.null_statistics, t.row.result.statistic);
+    t.row.result.null_statistics.clear();
+    t.row.result.null_statistics.shrink_to_fit();
+  }
+  // Headline tests first for every pair of groups (summaries already in primary order).
+  std::stable_partition(tests.begin(), tests.end(), [](const SummaryTest& t) { return t.headline; });
+}
+
 }  // namespace
+
+NullHistogram null_histogram(const std::vector<double>& null_statistics, double observed, std::size_t bins) {
+  NullHistogram h;
+  if (null_statistics.empty() || bins == 0) return h;
+  double lo = observed, hi = observed;
+  for (double x : null_statistics) lo = std::min(lo, x), hi = std::max(hi, x);
+  if (!(hi > lo)) lo -= 0.5, hi += 0.5;
+  const double width = (hi - lo) / static_cast<double>(bins);
+  for (std::size_t k = 0; k <= bins; ++k) h.edges.push_back(lo + width * static_cast<double>(k));
+  h.counts.assign(bins, 0);
+  for (double x : null_statistics)
+    ++h.counts[std::min(bins - 1, static_cast<std::size_t>((x - lo) / width))];
+  return h;
+}
 
 Comparison compare(const std::vector<output::SubjectRecord>& subjects, const CompareOptions& options) {
   if (subjects.empty()) fail(ErrorKind::data, "no finished subject results to compare");
@@ -246,6 +317,7 @@ Comparison compare(const std::vector<output::SubjectRecord>& subjects, const Com
   std::stable_sort(summary_names.begin(), summary_names.end(), [](const std::string& a, const std::string& b) {
     return output::summary_rank(a) < output::summary_rank(b);
   });
+  const std::vector<std::string> primary = primary_first(summary_names, options.primary);
 
   std::vector<std::vector<const output::SubjectRecord*>> members(groups.size());
   for (std::size_t g = 0; g < groups.size(); ++g) {
@@ -256,6 +328,7 @@ Comparison compare(const std::vector<output::SubjectRecord>& subjects, const Com
   for (std::size_t g = 1; g < groups.size(); ++g)
     for (auto& t : summary_tests(members[g], members[0], c.groups[g], c.groups[0], summary_names, options))
       c.tests.push_back(std::move(t));
+  mark_headlines(c.tests, primary);
   // Benjamini-Hochberg across the whole table.
   std::vector<double> p;
   for (const auto& t : c.tests)
@@ -267,6 +340,7 @@ Comparison compare(const std::vector<output::SubjectRecord>& subjects, const Com
     for (std::size_t g = 1; g < groups.size(); ++g)
       c.clusters.push_back(cluster_test(curve, members[g], members[0], groups[g], groups[0], c.density, options));
   c.null_baseline = null_baseline(subjects, c.density);
+  c.warnings = null_warnings(subjects);
   return c;
 }
 
@@ -311,6 +385,7 @@ Comparison compare_cohort(const std::string& dir, const CompareOptions& options)
   if (subjects.empty()) fail(ErrorKind::data, "'" + dir + "' holds no finished subject results");
   Comparison c = compare(subjects, options);
   c.missing = std::move(missing);
+  c.provenance = cohort_provenance(dir, options.band, options.given, output::compare_options_json(options));
   return c;
 }
 

@@ -25,6 +25,8 @@ struct CompareOptions {
   double confidence = 0.95;
   std::vector<std::string> covariates;     // regressed out of every summary before testing
   std::vector<std::string> cluster_curves{"chi"};
+  std::vector<std::string> primary;  // headline summaries, listed first in the table (empty: the first summary)
+  Json given = Json::object();       // the options as given (provenance)
 };
 const OptionSection& compare_option_section();
 CompareOptions parse_compare_options(const Json& options);
@@ -36,15 +38,26 @@ struct GroupResult {
   std::map<std::string, cohort::Band> curves;  // chi, betti_k, kappa_mean, kappa_sd, forman_mean (complete ones)
   std::map<std::string, std::vector<double>> summaries;  // per subject, NaN where missing
   std::vector<double> curvature_at_transition;  // node curvatures at each subject's first chi zero, pooled
+  std::vector<std::vector<double>> subject_chi;  // each subject's chi on the grid (NaN: missing), for the report
 };
 
 // One permutation test of a summary between two groups: group a (a later group) minus
 // group b (the first). row.p_adjusted is Benjamini-Hochberg across the whole table.
+struct NullHistogram {
+  std::vector<double> edges;           // bins + 1 edges
+  std::vector<std::uint64_t> counts;   // relabelled statistics per bin
+};
+
 struct SummaryTest {
   std::string group_a, group_b;
   std::vector<std::string> covariates;  // regressed out (empty: none)
   cohort::SummaryTestRow row;
+  bool headline = false;                 // a primary summary: its null distribution is kept
+  std::optional<NullHistogram> null_histogram;
 };
+
+// Histogram of a permutation null (equal-width bins spanning the draws and the observed value).
+NullHistogram null_histogram(const std::vector<double>& null_statistics, double observed, std::size_t bins = 30);
 
 struct ClusterTest {
   std::string curve, group_a, group_b;
@@ -67,6 +80,8 @@ struct Comparison {
   std::vector<ClusterTest> clusters;
   std::optional<NullBaseline> null_baseline;
   std::vector<std::string> missing;  // listed subjects without a finished result
+  std::vector<std::string> warnings;  // e.g. too few null draws for a z-score
+  Json provenance;  // config given and resolved, versions, checksums, quality (pipeline/provenance.hpp); null: none
 };
 
 // The comparison of subjects already read.

@@ -1,6 +1,8 @@
 #include "pipeline/nulls.hpp"
 
+#include <algorithm>
 #include <cmath>
+#include <cstdio>
 #include <limits>
 
 #include "base/error.hpp"
@@ -29,7 +31,10 @@ const OptionSection& null_option_section() {
        {.key = "iaaft_iterations", .type = "integer", .default_value = 100, .min = 1, .max = 100000,
         .meaning = "IAAFT iterations (stops early at a fixed point)"},
        {.key = "rewire_swaps_per_edge", .type = "number", .default_value = 10.0, .min = 0, .min_open = true,
-        .meaning = "degree-preserving swaps per edge (Maslov & Sneppen 2002)"}}};
+        .meaning = "degree-preserving swaps per edge (Maslov & Sneppen 2002)"},
+       {.key = "min_draws_for_z", .type = "integer", .default_value = 100, .min = 2, .max = 10000,
+        .meaning = "null draws with a transition needed before a z-score is reported; with fewer, only the "
+                   "empirical percentile rank (resolution 1/(count+1)) and a warning"}}};
   return section;
 }
 
@@ -41,6 +46,7 @@ NullSpec parse_null_spec(const Json& section, const std::string& where) {
   s.seed = static_cast<std::uint64_t>(r.integer("seed"));
   s.iaaft_iterations = static_cast<int>(r.integer("iaaft_iterations"));
   s.rewire_swaps_per_edge = r.number("rewire_swaps_per_edge");
+  s.min_draws_for_z = static_cast<int>(r.integer("min_draws_for_z"));
   r.finish();
   return s;
 }
@@ -96,8 +102,32 @@ double NullResult::sd() const {
 
 double NullResult::z() const {
   const auto f = finite_values(first_zeros);
-  if (f.size() < 2 || !std::isfinite(observed_first)) return std::numeric_limits<double>::quiet_NaN();
+  const std::size_t needed = static_cast<std::size_t>(std::max(2, spec.min_draws_for_z));
+  if (f.size() < needed || !std::isfinite(observed_first)) return std::numeric_limits<double>::quiet_NaN();
   return cohort::z_score(observed_first, f);
+}
+
+double NullResult::percentile() const {
+  if (first_zeros.empty() || !std::isfinite(observed_first)) return std::numeric_limits<double>::quiet_NaN();
+  double below = 0.0, equal = 0.0;
+  for (double x : first_zeros) {
+    if (!std::isfinite(x)) continue;  // no zero in range: above every density
+    below += x < observed_first ? 1.0 : 0.0;
+    equal += x == observed_first ? 1.0 : 0.0;
+  }
+  return (below + (equal + 1.0) / 2.0) / (static_cast<double>(first_zeros.size()) + 1.0);
+}
+
+double NullResult::percentile_resolution() const { return 1.0 / (static_cast<double>(first_zeros.size()) + 1.0); }
+
+std::string NullResult::warning() const {
+  if (!std::isnan(z()) || !std::isfinite(observed_first)) return "";
+  char buf[320];
+  std::snprintf(buf, sizeof buf,
+                "%zu of %zu null draws have a transition, fewer than min_draws_for_z = %d: no z-score; the empirical "
+                "percentile rank has resolution 1/%zu = %.3g",
+                with_zero(), first_zeros.size(), spec.min_draws_for_z, first_zeros.size() + 1, percentile_resolution());
+  return buf;
 }
 
 SweepOptions null_sweep_options(const SweepOptions& options) {

@@ -22,6 +22,7 @@ struct NullSpec {
   std::uint64_t seed = 1;
   int iaaft_iterations = 100;
   double rewire_swaps_per_edge = 10.0;
+  int min_draws_for_z = 100;  // fewer draws with a zero: no z-score, only the percentile rank
 };
 const OptionSection& null_option_section();
 NullSpec parse_null_spec(const Json& section, const std::string& where);
@@ -34,11 +35,20 @@ struct NullResult {
   std::size_t incomplete_rewirings = 0;  // rewire: graphs with too few legal swaps
 
   // Over the draws with a zero: how many, their mean and sample sd, and the observed
-  // value's z-score (NaN where fewer than 2 draws have a zero or there is no observation).
+  // value's z-score (NaN where fewer than spec.min_draws_for_z (at least 2) draws have a
+  // zero or there is no observation: a z from a handful of draws is not interpretable).
   std::size_t with_zero() const;
   double mean() const;
   double sd() const;
   double z() const;
+  // Empirical percentile rank of the observed first zero among all draws, as the mid-rank
+  // of the observed value among the draws and itself: (#below + (#equal + 1) / 2) /
+  // (draws + 1). A draw without a zero in the swept range counts as above every density.
+  // Its resolution is 1 / (draws + 1). NaN without an observation or draws.
+  double percentile() const;
+  double percentile_resolution() const;
+  // "" when the z-score is given; else why it is not (too few draws), for outputs and report.
+  std::string warning() const;
 };
 
 // `series` is the subject's raw series (surrogates are made from it and then cleaned,

@@ -13,15 +13,19 @@ namespace critplex::report {
 
 namespace {
 
-// Okabe & Ito (2008) colours; dash patterns and marker shapes keep groups apart in grey.
+// Our own palette, picked for colour-vision deficiency: the first two groups (the usual
+// comparison) pair a dark blue with an ochre, so they differ in lightness as well as hue
+// and stay apart for red-green and blue-yellow deficiency and in grey; every colour keeps
+// a 3:1 contrast with the white plot area (WCAG 2.1 non-text contrast); every group also
+// has its own dash pattern and marker shape.
 struct Style {
   const char* colour;
   const char* dash;  // "" = solid
   const char* marker;
 };
 constexpr Style kStyles[] = {
-    {"#0072B2", "", "circle"},        {"#D55E00", "8 4", "triangle"},   {"#009E73", "2 3", "square"},
-    {"#CC79A7", "9 3 2 3", "diamond"}, {"#E69F00", "4 2", "cross"},    {"#000000", "12 3 2 3 2 3", "none"},
+    {"#1b4f8c", "", "circle"},        {"#b8780c", "8 4", "triangle"},   {"#7a3b69", "2 3", "square"},
+    {"#2f8a87", "9 3 2 3", "diamond"}, {"#a8402c", "4 2", "cross"},    {"#2e2e2e", "12 3 2 3 2 3", "none"},
 };
 const Style& style_of(int index) {
   const int n = static_cast<int>(sizeof kStyles / sizeof kStyles[0]);
@@ -187,6 +191,8 @@ std::string svg_line_plot(const LinePlot& plot) {
           ylo = std::min(ylo, (*v)[i]);
           yhi = std::max(yhi, (*v)[i]);
         }
+      for (const auto& trace : line.traces)
+        if (i < trace.size() && std::isfinite(trace[i])) ylo = std::min(ylo, trace[i]), yhi = std::max(yhi, trace[i]);
     }
   }
   if (!std::isfinite(xlo)) xlo = 0, xhi = 1;
@@ -201,6 +207,33 @@ std::string svg_line_plot(const LinePlot& plot) {
   std::ostringstream s;
   s << svg_open(f, plot.title) << axes(f, plot.x_label, plot.y_label);
   s << "<g clip-path=\"none\">\n";
+  // Shaded ranges (significant clusters) under everything, labelled at the top.
+  for (const auto& shade : plot.shades) {
+    const double a = f.px(std::max(f.x0, shade.x0)), b = f.px(std::min(f.x1, shade.x1));
+    const double w = std::max(3.0, b - a);
+    s << "<rect x=\"" << coord(a - (w - (b - a)) / 2) << "\" y=\"" << coord(f.top) << "\" width=\"" << coord(w)
+      << "\" height=\"" << coord(f.height - f.bottom - f.top) << "\" class=\"shade\"/><text x=\"" << coord(a + 2)
+      << "\" y=\"" << coord(f.height - f.bottom - 6) << "\" class=\"shade-label\">" << escape(shade.label) << "</text>\n";
+  }
+  // Thin curves (one per subject) behind the bands and means.
+  for (const auto& line : plot.lines) {
+    const Style& st = style_of(line.style);
+    for (const auto& trace : line.traces) {
+      std::string d;
+      bool pen_down = false;
+      for (std::size_t i = 0; i < line.x.size() && i < trace.size(); ++i) {
+        if (!std::isfinite(line.x[i]) || !std::isfinite(trace[i])) {
+          pen_down = false;
+          continue;
+        }
+        d += (pen_down ? "L" : "M") + coord(f.px(line.x[i])) + "," + coord(f.py(trace[i]));
+        pen_down = true;
+      }
+      if (!d.empty())
+        s << "<path d=\"" << d << "\" fill=\"none\" stroke=\"" << st.colour
+          << "\" stroke-width=\"0.8\" stroke-opacity=\"0.38\" class=\"trace\"/>\n";
+    }
+  }
   // Bands first, so every line stays on top of every band.
   for (const auto& line : plot.lines) {
     if (line.lower.empty() || line.upper.empty()) continue;
@@ -254,11 +287,46 @@ std::string svg_line_plot(const LinePlot& plot) {
         if (std::isfinite(line.x[i]) && std::isfinite(line.y[i])) s << marker_svg(st, f.px(line.x[i]), f.py(line.y[i]));
       s << "\n";
     }
+    // Points where the value is undefined because it is zero: open markers on the lower edge.
+    for (double x : line.zero_x)
+      if (std::isfinite(x) && x >= f.x0 && x <= f.x1)
+        s << "<circle cx=\"" << coord(f.px(x)) << "\" cy=\"" << coord(f.height - f.bottom - 4) << "\" r=\"3.4\" fill=\"#ffffff\" stroke=\""
+          << st.colour << "\" stroke-width=\"1.6\" class=\"zero-point\"/>";
   }
   s << "</g>\n";
   std::vector<std::pair<std::string, std::pair<int, bool>>> entries;
   for (const auto& line : plot.lines) entries.push_back({line.label, {line.style, line.markers}});
   s << legend(f, entries) << "</svg>\n";
+  if (!plot.caption.empty()) s << "<p class=\"plot-note\">" << escape(plot.caption) << "</p>\n";
+  return s.str();
+}
+
+std::string svg_histogram(const HistogramPlot& plot) {
+  if (plot.edges.size() != plot.counts.size() + 1 || plot.counts.empty())
+    fail(ErrorKind::argument, "report: histogram '" + plot.title + "' needs bins + 1 edges");
+  Frame f;
+  f.height = 340;
+  f.top = 40;
+  f.x0 = std::min(plot.edges.front(), plot.observed);
+  f.x1 = std::max(plot.edges.back(), plot.observed);
+  if (!(f.x1 > f.x0)) f.x1 = f.x0 + 1.0;
+  f.y0 = 0.0;
+  f.y1 = 1.0;
+  for (double c : plot.counts) f.y1 = std::max(f.y1, c * 1.08);
+  std::ostringstream s;
+  s << svg_open(f, plot.title) << axes(f, plot.x_label, "relabellings (count)");
+  const Style& st = style_of(0);
+  for (std::size_t k = 0; k < plot.counts.size(); ++k) {
+    const double a = f.px(plot.edges[k]), b = f.px(plot.edges[k + 1]), top = f.py(plot.counts[k]);
+    s << "<rect x=\"" << coord(a) << "\" y=\"" << coord(top) << "\" width=\"" << coord(std::max(0.5, b - a - 0.6))
+      << "\" height=\"" << coord(f.py(0) - top) << "\" fill=\"" << st.colour << "\" fill-opacity=\"0.45\"/>";
+  }
+  const double x = f.px(plot.observed);
+  s << "\n<line x1=\"" << coord(x) << "\" y1=\"" << coord(f.top) << "\" x2=\"" << coord(x) << "\" y2=\""
+    << coord(f.height - f.bottom) << "\" stroke=\"" << style_of(4).colour << "\" stroke-width=\"2.4\"/><text x=\""
+    << coord(x + 4) << "\" y=\"" << coord(f.top + 14) << "\" class=\"mark-label\" fill=\"" << style_of(4).colour
+    << "\">observed " << num(plot.observed) << "</text>\n</svg>\n";
+  if (!plot.note.empty()) s << "<p class=\"plot-note\">" << escape(plot.note) << "</p>\n";
   return s.str();
 }
 
@@ -353,6 +421,13 @@ thead th { border-bottom: 2px solid var(--ink); }
 td.n { text-align: right; font-variant-numeric: tabular-nums; }
 tbody tr:nth-child(even) { background: #f3f4f1; }
 pre { background: #f3f4f1; border: 1px solid var(--rule); padding: 10px; overflow-x: auto; font-size: 12.5px; }
+.warning { border-left: 5px solid #8a5a00; background: #fff8e8; }
+.warning ul { margin: 4px 0 0; padding-left: 20px; }
+.shade { fill: #8c8c8c; fill-opacity: 0.16; }
+.shade-label { font-size: 11px; fill: #333333; }
+details summary { cursor: pointer; margin: 8px 0; }
+#quality-table, #checksums { font-size: 12.5px; }
+#checksums td { font-family: ui-monospace, Menlo, Consolas, monospace; word-break: break-all; }
 footer { margin-top: 40px; color: var(--muted); font-size: 13px; border-top: 1px solid var(--rule); padding-top: 10px; }
 @media print { body { background: #ffffff; } .panel { break-inside: avoid; border-color: #999999; } }
 )css";
@@ -380,6 +455,46 @@ Line band_line(const std::string& label, const std::vector<double>& x, const Ban
 
 const std::string kDensityLabel = "edge density (fraction of region pairs connected)";
 
+std::string table_html(const Table& t, const std::string& id) {
+  std::ostringstream h;
+  h << "<table id=\"" << escape(id) << "\"><thead><tr>";
+  for (const auto& c : t.header) h << "<th>" << escape(c) << "</th>";
+  h << "</tr></thead><tbody>\n";
+  for (const auto& row : t.rows) {
+    h << "<tr>";
+    for (const auto& c : row) h << "<td>" << escape(c) << "</td>";
+    h << "</tr>\n";
+  }
+  h << "</tbody></table>\n";
+  return h.str();
+}
+
+// Configuration as given and resolved, versions, input checksums, and per-subject quality.
+std::string provenance_html(const ReportInput& in) {
+  std::ostringstream h;
+  if (!in.quality.rows.empty()) {
+    h << "<h2 id=\"quality\">Quality per subject</h2>\n<div class=\"panel wide\">" << table_html(in.quality, "quality-table")
+      << "<p class=\"lede\">Frames censored: frames the cleaning dropped before estimation. Shrinkage intensity: "
+         "n/a for estimators without shrinkage. A region that is constant after cleaning stops that subject with an "
+         "error (listed as failed), so no region is dropped silently.</p></div>\n";
+  }
+  if (in.config_given_json.empty() && in.versions.empty()) return h.str();
+  h << "<h2 id=\"provenance\">Provenance</h2>\n<div class=\"panel\">";
+  if (!in.versions.empty()) {
+    h << "<table><tbody>\n";
+    for (const auto& [k, v] : in.versions) h << "<tr><th scope=\"row\">" << escape(k) << "</th><td>" << escape(v) << "</td></tr>\n";
+    h << "</tbody></table>\n";
+  }
+  h << "<div class=\"pair\"><div><p class=\"lede\">Configuration as given (connect, sweep, null, compare):</p><pre>"
+    << escape(in.config_given_json) << "</pre></div><div><p class=\"lede\">As resolved, every default filled in:</p><pre>"
+    << escape(in.config_resolved_json) << "</pre></div></div>\n";
+  if (!in.checksums.rows.empty())
+    h << "<details><summary>Input checksums (SHA-256, " << in.checksums.rows.size() << " files)</summary>"
+      << table_html(in.checksums, "checksums") << "</details>\n";
+  h << "</div>\n";
+  return h.str();
+}
+
 }  // namespace
 
 std::string build_report(const ReportInput& in) {
@@ -390,6 +505,9 @@ std::string build_report(const ReportInput& in) {
     for (std::size_t k = 0; k < g.betti.size(); ++k) check_band(g, g.betti[k], "beta_" + std::to_string(k), true);
     check_lengths("group '" + g.name + "', first transitions", g.subjects.size(), g.first_transition.size());
     if (!g.transition_z.empty()) check_lengths("group '" + g.name + "', transition z-scores", g.subjects.size(), g.transition_z.size());
+    for (const auto& trace : g.subject_chi) check_lengths("group '" + g.name + "', a subject's chi curve", g.density.size(), trace.size());
+    if (!g.transition_percentile.empty())
+      check_lengths("group '" + g.name + "', transition percentile ranks", g.subjects.size(), g.transition_percentile.size());
   }
   if (in.null_baseline) {
     check_lengths("null baseline chi", in.null_baseline->density.size(), in.null_baseline->chi.size());
@@ -406,41 +524,60 @@ std::string build_report(const ReportInput& in) {
     << (in.created.empty() ? "" : " &middot; " + escape(in.created))
     << " &middot; research software, not a medical device: no clinical decisions</p></header>\n";
 
+  if (!in.warnings.empty()) {
+    h << "<div class=\"panel warning\" id=\"warnings\"><strong>Read with care</strong><ul>\n";
+    for (const auto& w : in.warnings) h << "<li>" << escape(w) << "</li>\n";
+    h << "</ul></div>\n";
+  }
   // Cohort and options.
   h << "<h2>Cohort and options</h2>\n<div class=\"panel\"><table><tbody>\n";
   for (const auto& g : in.groups)
     h << "<tr><th scope=\"row\">group " << escape(g.name) << "</th><td>" << g.subjects.size() << " subjects</td></tr>\n";
   for (const auto& [k, v] : in.facts) h << "<tr><th scope=\"row\">" << escape(k) << "</th><td>" << escape(v) << "</td></tr>\n";
   h << "</tbody></table>\n";
-  if (!in.options_json.empty()) h << "<p class=\"lede\">Options as given:</p><pre>" << escape(in.options_json) << "</pre>\n";
+  if (!in.options_json.empty() && in.config_given_json.empty())
+    h << "<p class=\"lede\">Options as given:</p><pre>" << escape(in.options_json) << "</pre>\n";
   h << "</div>\n";
 
-  // Mean chi and log|chi| with bands, transitions marked, null on the same axes.
+  // Mean chi and log|chi| with bands and per-subject curves, transitions marked,
+  // significant clusters shaded; the null model in its own panel (its own scale).
   std::vector<VerticalMark> marks;
   for (std::size_t k = 0; k < in.groups.size(); ++k) {
     const double m = finite_mean(in.groups[k].first_transition);
     marks.push_back({m, in.groups[k].name + " " + num(m, 3), static_cast<int>(k)});
   }
   LinePlot chi{"Euler characteristic, group mean with 95% band", kDensityLabel, "Euler characteristic chi (count)", {}, marks};
+  chi.shades = in.chi_clusters;
+  chi.caption = "Thin lines: each subject. Shaded: density ranges of chi clusters with p <= 0.05 (" +
+                (in.cluster_note.empty() ? std::string("cluster permutation test") : in.cluster_note) + ").";
   LinePlot logchi{"log10 |chi|, group mean with 95% band", kDensityLabel, "log10 |chi| (dimensionless)", {}, marks};
+  logchi.caption = "Open circles on the lower edge: grid points where the group mean chi is 0, so log10 |chi| is "
+                   "undefined and the line breaks there.";
   bool any_log = false;
   for (std::size_t k = 0; k < in.groups.size(); ++k) {
     const auto& g = in.groups[k];
-    chi.lines.push_back(band_line(g.name, g.density, g.chi, static_cast<int>(k)));
+    Line mean_line = band_line(g.name, g.density, g.chi, static_cast<int>(k));
+    mean_line.traces = g.subject_chi;
+    chi.lines.push_back(std::move(mean_line));
     if (!g.log_abs_chi.mean.empty()) {
-      logchi.lines.push_back(band_line(g.name, g.density, g.log_abs_chi, static_cast<int>(k)));
+      Line log_line = band_line(g.name, g.density, g.log_abs_chi, static_cast<int>(k));
+      for (std::size_t p = 0; p < g.density.size(); ++p)
+        if (g.chi.mean[p] == 0.0) log_line.zero_x.push_back(g.density[p]);
+      logchi.lines.push_back(std::move(log_line));
       any_log = true;
     }
   }
-  if (in.null_baseline) {
-    const auto& nb = *in.null_baseline;
-    chi.lines.push_back(Line{nb.label, nb.density, nb.chi, {}, {}, kNullStyle, false});
-    if (!nb.log_abs_chi.empty()) logchi.lines.push_back(Line{nb.label, nb.density, nb.log_abs_chi, {}, {}, kNullStyle, false});
-  }
-  h << "<h2>Euler characteristic along the filtration</h2>\n<p class=\"lede\">Bands: percentile bootstrap over "
+  h << "<h2 id=\"euler\">Euler characteristic along the filtration</h2>\n<p class=\"lede\">Bands: percentile bootstrap over "
        "subjects. Dotted verticals: each group's mean first transition (first zero of chi).</p>\n";
   h << "<div class=\"panel\">" << svg_line_plot(chi) << "</div>\n";
   if (any_log) h << "<div class=\"panel\">" << svg_line_plot(logchi) << "</div>\n";
+  if (in.null_baseline) {
+    const auto& nb = *in.null_baseline;
+    LinePlot null_plot{"Null model: chi of the null, on its own scale", kDensityLabel, "Euler characteristic chi (count)",
+                       {Line{nb.label, nb.density, nb.chi, {}, {}, kNullStyle, false}}, {}};
+    null_plot.caption = "Drawn on its own axes, so its range does not set the scale of the group curves above.";
+    h << "<div class=\"panel\" id=\"null-curve\">" << svg_line_plot(null_plot) << "</div>\n";
+  }
 
   // Betti curves: one plot per dimension, groups overlaid.
   std::size_t dims = 0;
@@ -458,19 +595,29 @@ std::string build_report(const ReportInput& in) {
 
   // Subjects' first transitions and curvature at the transition.
   StripPlot first{"First transition per subject", "first chi zero (edge density)", in.transition_test_note, {}};
-  StripPlot curvature{"Node curvature at the first transition", "node curvature (dimensionless)", "", {}};
-  StripPlot zscores{"First transition against the null model", "z-score (null SD units)", "", {}};
-  bool any_curvature = false, any_z = false;
+  StripPlot curvature{"Node curvature SD per subject",
+                      "SD of node curvature at the first transition",
+                      "Each point summarises one subject's regions (their SD), so subjects, not nodes, are the units." +
+                          (in.curvature_test_note.empty() ? "" : " " + in.curvature_test_note), {}};
+  StripPlot zscores{"First transition against the null model", "z-score (null SD units)", in.z_test_note, {}};
+  StripPlot ranks{"Percentile rank among null draws", "percentile rank of the first transition (fraction)",
+                  "Mid-rank of the subject's first transition among its null draws and itself; resolution "
+                  "1/(draws+1)." + (in.rank_test_note.empty() ? "" : " " + in.rank_test_note),
+                  {}};
+  bool any_curvature = false, any_z = false, any_rank = false;
   for (std::size_t k = 0; k < in.groups.size(); ++k) {
     const auto& g = in.groups[k];
     first.groups.push_back({g.name, g.first_transition, static_cast<int>(k)});
     curvature.groups.push_back({g.name, g.curvature_at_transition, static_cast<int>(k)});
     zscores.groups.push_back({g.name, g.transition_z, static_cast<int>(k)});
+    ranks.groups.push_back({g.name, g.transition_percentile, static_cast<int>(k)});
     any_curvature |= !g.curvature_at_transition.empty();
-    any_z |= !g.transition_z.empty();
+    any_z |= std::any_of(g.transition_z.begin(), g.transition_z.end(), [](double z) { return std::isfinite(z); });
+    any_rank |= !g.transition_percentile.empty();
   }
   h << "<h2>Transitions per subject</h2>\n<div class=\"pair\">\n<div class=\"panel\">" << svg_strip_plot(first) << "</div>\n";
   if (any_z) h << "<div class=\"panel\">" << svg_strip_plot(zscores) << "</div>\n";
+  if (any_rank) h << "<div class=\"panel\">" << svg_strip_plot(ranks) << "</div>\n";
   if (any_curvature) h << "<div class=\"panel\">" << svg_strip_plot(curvature) << "</div>\n";
   h << "</div>\n<p class=\"lede\">Boxes: quartiles; thick line: median.</p>\n";
 
@@ -480,15 +627,35 @@ std::string build_report(const ReportInput& in) {
     h << "<p class=\"lede\">No tests were run.</p>";
   } else {
     h << "<table><thead><tr><th>summary</th><th>statistic</th><th class=\"n\">value</th><th class=\"n\">Hedges g</th>"
-         "<th class=\"n\">p</th><th class=\"n\">p (BH)</th><th>null distribution</th></tr></thead><tbody>\n";
+         "<th class=\"n\">g interval</th><th class=\"n\">p</th><th class=\"n\">p (BH)</th><th>null distribution</th></tr></thead><tbody>\n";
     for (const auto& t : in.tests)
       h << "<tr><td>" << escape(t.summary) << "</td><td>" << escape(t.statistic) << "</td><td class=\"n\">" << num(t.value)
-        << "</td><td class=\"n\">" << num(t.hedges_g, 3) << "</td><td class=\"n\">" << num(t.p_value, 3)
+        << "</td><td class=\"n\">" << num(t.hedges_g, 3) << "</td><td class=\"n\">"
+        << (std::isnan(t.g_lower) ? std::string("n/a") : num(t.g_lower, 3) + " to " + num(t.g_upper, 3))
+        << "</td><td class=\"n\">" << num(t.p_value, 3)
         << "</td><td class=\"n\">" << num(t.p_adjusted, 3) << "</td><td>" << escape(t.method) << "</td></tr>\n";
-    h << "</tbody></table>\n<p class=\"lede\">Two-sided permutation tests; p (BH): Benjamini-Hochberg false "
-         "discovery rate across the rows of this table.</p>";
+    h << "</tbody></table>\n<p class=\"lede\">Two-sided permutation tests, headline summaries first.</p>";
+    for (const auto& note : in.test_notes) h << "<p class=\"lede\">" << escape(note) << "</p>\n";
   }
   h << "</div>\n";
+  if (!in.null_histograms.empty()) {
+    h << "<h2 id=\"permutation-nulls\">Permutation nulls of the headline tests</h2>\n<div class=\"pair\">\n";
+    for (const auto& hp : in.null_histograms) h << "<div class=\"panel\">" << svg_histogram(hp) << "</div>\n";
+    h << "</div>\n";
+  }
+  if (!in.methods_text.empty()) {
+    h << "<h2 id=\"methods\">Methods</h2>\n<div class=\"panel methods\">";
+    std::size_t at = 0;
+    while (at < in.methods_text.size()) {
+      std::size_t end = in.methods_text.find("\n\n", at);
+      if (end == std::string::npos) end = in.methods_text.size();
+      const std::string para = in.methods_text.substr(at, end - at);
+      if (!para.empty()) h << "<p>" << escape(para) << "</p>\n";
+      at = end + 2;
+    }
+    h << "</div>\n";
+  }
+  h << provenance_html(in);
   h << "<footer>Made by " << escape(in.software.empty() ? std::string("critplex") : in.software)
     << ". Research software for the study of brain network topology; it is not a medical device and its "
        "results must not be used for diagnosis or treatment.</footer>\n</main>\n</body>\n</html>\n";

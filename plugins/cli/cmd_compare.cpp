@@ -6,6 +6,20 @@
 namespace critplex_cli {
 namespace {
 
+// "a,b,,c" -> ["a", "b", "c"]
+nlohmann::json name_list(const std::string& v) {
+  nlohmann::json list = nlohmann::json::array();
+  std::size_t start = 0;
+  while (start <= v.size()) {
+    auto comma = v.find(',', start);
+    std::string name = v.substr(start, comma == std::string::npos ? std::string::npos : comma - start);
+    if (!name.empty()) list.push_back(name);
+    if (comma == std::string::npos) break;
+    start = comma + 1;
+  }
+  return list;
+}
+
 nlohmann::json compare_options(const Args& args) {
   nlohmann::json o = nlohmann::json::object();
   if (auto v = args.value("options")) {
@@ -16,18 +30,8 @@ nlohmann::json compare_options(const Args& args) {
     }
   }
   if (auto v = args.value("band")) o["band"] = *v;
-  if (auto v = args.value("covariates")) {
-    nlohmann::json list = nlohmann::json::array();
-    std::size_t start = 0;
-    while (start <= v->size()) {
-      auto comma = v->find(',', start);
-      std::string name = v->substr(start, comma == std::string::npos ? std::string::npos : comma - start);
-      if (!name.empty()) list.push_back(name);
-      if (comma == std::string::npos) break;
-      start = comma + 1;
-    }
-    o["covariates"] = list;
-  }
+  if (auto v = args.value("covariates")) o["covariates"] = name_list(*v);
+  if (auto v = args.value("primary")) o["primary"] = name_list(*v);
   if (args.has("seed")) o["seed"] = args.integer("seed", 1);
   if (args.has("resamples")) o["resamples"] = args.integer("resamples", 9999);
   return o;
@@ -39,13 +43,20 @@ int run_compare(const Args& args) {
   check(cpx_cohort_compare(dir.c_str(), compare_options(args).dump().c_str(), &text));
   auto doc = nlohmann::json::parse(text);
   cpx_string_free(text);
+  // n/a where a value is missing (e.g. Hedges g of two constant groups).
+  auto number = [](const nlohmann::json& v, const char* format) {
+    if (!v.is_number()) return std::string("n/a");
+    char buffer[64];
+    std::snprintf(buffer, sizeof buffer, format, v.get<double>());
+    return std::string(buffer);
+  };
   std::printf("%-52s %-22s %10s %9s %10s %10s\n", "summary", "groups", "difference", "Hedges g", "p", "p (BH)");
   for (const auto& t : doc["tests"]) {
     if (!t.contains("p_value")) continue;
     std::string groups = t["group_a"].get<std::string>() + " vs " + t["group_b"].get<std::string>();
-    std::printf("%-52s %-22s %10.4g %9.2f %10.4g %10.4g\n", t.value("label", t["summary"].get<std::string>()).c_str(), groups.c_str(),
-                t["value"].get<double>(), t["hedges_g"].get<double>(), t["p_value"].get<double>(),
-                t["p_adjusted"].get<double>());
+    std::printf("%-52s %-22s %10s %9s %10s %10s\n", t.value("label", t["summary"].get<std::string>()).c_str(),
+                groups.c_str(), number(t["value"], "%.4g").c_str(), number(t["hedges_g"], "%.2f").c_str(),
+                number(t["p_value"], "%.4g").c_str(), number(t["p_adjusted"], "%.4g").c_str());
   }
   std::printf("written: %s/group_comparison.json, %s/group_tests.tsv\n", dir.c_str(), dir.c_str());
   return 0;
@@ -61,6 +72,7 @@ const Registration registration{Command{
     "cluster permutation tests along the density axis and the null baselines.",
     {{"band", "NAME", "which band to compare (default: the first)"},
      {"covariates", "A,B", "manifest columns regressed out of every summary (e.g. age)"},
+     {"primary", "A,B", "headline summaries, first in the table, with their permutation null drawn (e.g. first_chi_zero)"},
      {"seed", "N", "seed of the Monte Carlo relabellings and bootstrap (default 1)"},
      {"resamples", "N", "Monte Carlo relabellings when exact enumeration is too large (default 9999)"},
      {"options", "JSON", "compare options as a JSON object (docs/options.md: compare)"}},

@@ -134,3 +134,27 @@ TEST_CASE("several summaries: missing values left out, BH across summaries", "[c
   in.covariates_b = Eigen::MatrixXd::Ones(3, 1);
   CHECK_THROWS_WITH(compare_summaries(in, {}), Catch::Contains("first zero"));
 }
+
+TEST_CASE("a summary with one value for every subject is not tested", "[cohort]") {
+  SummaryComparisonInput in;
+  in.names = {"rank", "shifted"};
+  in.a = {{0.95, 0.95, 0.95}, {0.95, 0.95, 0.95}};
+  in.b = {{0.95, 0.95, 0.95}, {0.85, 0.85, 0.85}};
+  in.covariates_a = (Eigen::MatrixXd(3, 1) << 20, 31, 25).finished();
+  in.covariates_b = (Eigen::MatrixXd(3, 1) << 22, 29, 35).finished();
+  const auto rows = compare_summaries(in, {});
+  CHECK_FALSE(rows[0].tested);
+  CHECK_THAT(rows[0].note, Catch::Contains("same value"));
+  CHECK(rows[1].tested);  // constant within groups but different between them: a test
+}
+
+TEST_CASE("the Hedges g interval follows Hedges & Olkin (1985)", "[cohort]") {
+  // var(g) = (n1 + n2)/(n1 n2) + g^2/(2 (n1 + n2)); z_0.975 = 1.959963984540054 (standard
+  // normal table, common practice). g = 0.8, n = 10 + 12: var = 22/120 + 0.64/44.
+  const auto ci = hedges_g_interval(0.8, 10, 12, 0.95);
+  const double se = std::sqrt(22.0 / 120.0 + 0.64 / 44.0);
+  CHECK(ci.lower == Approx(0.8 - 1.959963984540054 * se).epsilon(1e-13));
+  CHECK(ci.upper == Approx(0.8 + 1.959963984540054 * se).epsilon(1e-13));
+  CHECK(normal_quantile(0.5) == Approx(0.0).margin(1e-15));
+  CHECK_THROWS(normal_quantile(1.0));
+}

@@ -2,7 +2,10 @@
 // text escaped, shapes checked with messages naming the group and curve.
 #include <catch2/catch.hpp>
 
+#include <algorithm>
 #include <cmath>
+#include <string>
+#include <vector>
 
 #include "base/error.hpp"
 #include "report/report.hpp"
@@ -53,8 +56,9 @@ TEST_CASE("the report is one self-contained HTML document", "[report]") {
   CHECK(count(html, "src=") == 0);
   // The only address is the SVG namespace name, which browsers never fetch.
   CHECK(count(html, "http") == count(html, "xmlns=\"http://www.w3.org/2000/svg\""));
-  // chi, log|chi|, beta_0, beta_1, three strip plots (transitions, curvature; no z given: two)
-  CHECK(count(html, "<svg ") == 6);
+  // chi, log|chi|, the null on its own, beta_0, beta_1, two strip plots (transitions,
+  // curvature; no z or percentile ranks given)
+  CHECK(count(html, "<svg ") == 7);
   CHECK(count(html, "not a medical device") >= 1);
 }
 
@@ -66,6 +70,64 @@ TEST_CASE("the report escapes text and shows every group, test and the null", "[
   CHECK(count(html, "exact, 20 relabellings") == 1);
   CHECK(count(html, "1 without a value") == 2);  // a subject without a transition, per group
   CHECK(count(html, "&quot;max_density&quot;") == 1);
+}
+
+TEST_CASE("figures: the null apart, zero points, subject curves, clusters, null histograms", "[report]") {
+  ReportInput in = small_input();
+  for (auto& g : in.groups) g.subject_chi = {{5, 2, -1, 0}, {5, 1, 0, 1}, {5, 3, -2, 0.5}};
+  in.groups[0].chi.mean = {5, 2, 0, 0.5};  // a zero mean at density 0.2: log10|chi| undefined there
+  in.chi_clusters = {{0.1, 0.2, "p = 0.012"}};
+  in.null_histograms = {{"first transition: b vs a", "mean difference", "p = 0.04", {-1, 0, 1}, {3, 5}, 0.7}};
+  in.warnings = {"too few null draws"};
+  const std::string html = build_report(in);
+  // The null model has its own panel; the group chi plot does not carry it.
+  const auto null_panel = html.find("id=\"null-curve\"");
+  REQUIRE(null_panel != std::string::npos);
+  CHECK(html.find("random graph") > null_panel);
+  CHECK(count(html, "class=\"trace\"") == 6);       // 3 subjects x 2 groups, behind the means
+  CHECK(count(html, "class=\"zero-point\"") == 1);  // group 0's zero at density 0.2 on the log panel
+  CHECK(count(html, "undefined") >= 1);  // the caption says why the log line breaks
+  CHECK(count(html, "class=\"shade\"") == 1);
+  CHECK(count(html, "p = 0.012") == 1);
+  CHECK(count(html, "Permutation nulls of the headline tests") == 1);
+  CHECK(count(html, "observed 0.7") == 1);
+  CHECK(count(html, "too few null draws") == 1);
+  CHECK(count(html, "<script") == 0);
+  // The histogram's bars: one per bin; the shapes are checked.
+  in.null_histograms[0].edges = {0, 1};
+  CHECK_THROWS_AS(build_report(in), Error);
+}
+
+// WCAG 2.1 relative luminance of "#rrggbb" (W3C open standard, sRGB linearisation).
+double luminance(const std::string& hex) {
+  auto channel = [&](int at) {
+    const double c = std::stoi(hex.substr(static_cast<std::size_t>(at), 2), nullptr, 16) / 255.0;
+    return c <= 0.04045 ? c / 12.92 : std::pow((c + 0.055) / 1.055, 2.4);
+  };
+  return 0.2126 * channel(1) + 0.7152 * channel(3) + 0.0722 * channel(5);
+}
+double contrast(double a, double b) { return (std::max(a, b) + 0.05) / (std::min(a, b) + 0.05); }
+
+TEST_CASE("palette: 3:1 against the white plot area, first two groups apart in lightness", "[report]") {
+  // reference: WCAG 2.1 (W3C), relative luminance and contrast ratio; 3:1 is its
+  // minimum for graphical objects (success criterion 1.4.11).
+  ReportInput in = small_input();
+  for (int k = 2; k < 6; ++k) {
+    GroupResults g = in.groups[0];
+    g.name = "group" + std::to_string(k);
+    in.groups.push_back(g);
+  }
+  const std::string html = build_report(in);
+  std::vector<std::string> colours;
+  for (std::size_t at = html.find("class=\"legend\""); colours.size() < 6 && at != std::string::npos;) {
+    const std::size_t stroke = html.rfind("<line", at);
+    const std::size_t c = html.find("stroke=\"#", stroke);
+    colours.push_back(html.substr(c + 8, 7));
+    at = html.find("class=\"legend\"", at + 1);
+  }
+  REQUIRE(colours.size() == 6);
+  for (const auto& c : colours) CHECK(contrast(luminance(c), 1.0) >= 3.0);
+  CHECK(contrast(luminance(colours[0]), luminance(colours[1])) >= 2.0);
 }
 
 TEST_CASE("a NaN breaks a line instead of drawing through it", "[report]") {

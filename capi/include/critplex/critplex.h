@@ -351,11 +351,15 @@ CPX_API cpx_status cpx_sweep_bars(const cpx_sweep* sweep, int dimension, cpx_lay
  * baselines. Writes dir/group_comparison.json and dir/group_tests.tsv; returns the
  * comparison as JSON. Options (docs/options.md, "compare"): {"band", "groups",
  * "statistic", "exact_limit", "resamples", "seed", "confidence", "covariates",
- * "cluster_curves"}. */
+ * "cluster_curves", "primary"}; "primary" lists the headline summaries, first in the table
+ * and with their permutation null kept. The comparison also carries Hedges g intervals,
+ * the resamples drawn, the test family, warnings and the provenance (config given and
+ * resolved, versions, checksums, per-subject quality). */
 CPX_API cpx_status cpx_cohort_compare(const char* dir, const char* options_json, char** comparison_json);
 
 /* Writes the self-contained HTML report of dir/group_comparison.json to dir/report.html
- * (or options {"out": path}); options {"created": text shown as the creation date}. */
+ * (or options {"out": path}); options {"created": text shown as the creation date}.
+ * Also writes methods.md (the methods paragraph with its references) beside the report. */
 CPX_API cpx_status cpx_cohort_report(const char* dir, const char* options_json, char** report_path);
 
 /* Writes a simulated study (invented data: time series, manifest.tsv, cohort_config.json,
