@@ -36,7 +36,7 @@ Json null_json(const pipeline::NullResult& n) {
   j["first_chi_zero"] = std::move(first);
   j["mean_chi"] = numbers_or_null(n.mean_chi);
   Json details = Json::object();
-  if (n.spec.model == "rewire") {
+  if (n.spec.model == "rewire" || n.spec.model == "rewire_nested") {
     details["swaps_per_edge"] = n.spec.rewire_swaps_per_edge;
     details["incomplete_rewirings"] = n.incomplete_rewirings;
   } else if (n.spec.model == "iaaft") {

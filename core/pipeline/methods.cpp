@@ -8,7 +8,7 @@ namespace critplex::pipeline {
 
 namespace {
 
-// Full references, keyed by their short citation (METHODS.md).
+// Full references, keyed by their short citation (as in docs/methods.md).
 const std::map<std::string, std::string>& reference_list() {
   static const std::map<std::string, std::string> refs{
       {"Butterworth 1930", "Butterworth S (1930). On the theory of filter amplifiers. Experimental Wireless and the "
@@ -184,9 +184,13 @@ std::string nulls(const Json& null, Writer& w) {
     s += "iterated amplitude-adjusted Fourier transform surrogates (" + w.cite("Schreiber & Schmitz 1996") + ")";
   else if (model == "rewire")
     s += "degree-preserving rewirings of the graph at every density (" + w.cite("Maslov & Sneppen 2002") + ")";
+  else if (model == "rewire_nested")
+    s += "nested degree-preserving rewirings of the whole filtration, with edge swaps only between edges entering in "
+         "the same density step, so every node keeps its degree at every density and the null graphs grow like the "
+         "observed ones (swaps as in " + w.cite("Maslov & Sneppen 2002") + ")";
   else
     s += model;
-  if (model != "rewire") s += ", each cleaned, filtered, estimated and swept exactly like the original";
+  if (model.rfind("rewire", 0) != 0) s += ", each cleaned, filtered, estimated and swept exactly like the original";
   const int min_z = null.value("min_draws_for_z", 100);
   s += ". The observed value is reported as its mid-rank percentile among the draws (resolution 1/" +
        std::to_string(count + 1) + ")";

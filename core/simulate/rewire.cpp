@@ -79,6 +79,60 @@ RewireResult rewire(std::size_t nodes, const EdgeList& edges, const RewireOption
   return result;
 }
 
+RewireResult rewire_nested(const filtration::Filtration& f, const std::vector<std::size_t>& layer_ends,
+                           const RewireOptions& options) {
+  if (!(options.swaps_per_edge >= 0.0 && std::isfinite(options.swaps_per_edge)))
+    fail(ErrorKind::argument, "swaps_per_edge must be a non-negative number");
+  if (f.nodes > UINT32_MAX) fail(ErrorKind::argument, "rewiring: too many nodes");
+  for (std::size_t k = 0; k < layer_ends.size(); ++k)
+    if (layer_ends[k] > f.edges.size() || (k > 0 && layer_ends[k] < layer_ends[k - 1]))
+      fail(ErrorKind::argument, "nested rewiring: layer ends must increase within the filtration's " +
+                                    std::to_string(f.edges.size()) + " edges");
+  RewireResult result;
+  const std::size_t m = layer_ends.empty() ? 0 : layer_ends.back();
+  result.edges.reserve(m);
+  std::unordered_set<std::uint64_t> present;
+  present.reserve(m * 2);
+  for (std::size_t i = 0; i < m; ++i) {
+    const std::uint32_t u = f.edges[i].u, v = f.edges[i].v;
+    result.edges.emplace_back(std::min(u, v), std::max(u, v));
+    present.insert(key(u, v));
+  }
+  // Layer of every edge: [begin, end) in the edge list.
+  std::vector<std::pair<std::size_t, std::size_t>> layer_of(m);
+  std::size_t swappable = 0, begin = 0;
+  for (std::size_t end : layer_ends) {
+    for (std::size_t i = begin; i < end; ++i) layer_of[i] = {begin, end};
+    if (end - begin >= 2) swappable += end - begin;
+    begin = end;
+  }
+  const auto wanted = static_cast<std::uint64_t>(std::llround(options.swaps_per_edge * static_cast<double>(swappable)));
+  const std::uint64_t budget = wanted * 100;
+  Random random(options.seed);
+  while (result.swaps < wanted && result.attempts < budget) {
+    ++result.attempts;
+    const auto i = static_cast<std::size_t>(random.below(m));
+    const auto [lo, hi] = layer_of[i];
+    if (hi - lo < 2) continue;  // a layer of one edge has nothing to swap with
+    auto j = lo + static_cast<std::size_t>(random.below(hi - lo - 1));
+    if (j >= i) ++j;
+    auto [a, b] = result.edges[i];
+    auto [c, d] = result.edges[j];
+    if (random.below(2) == 1) std::swap(c, d);
+    if (a == d || c == b) continue;
+    if (present.count(key(a, d)) || present.count(key(c, b))) continue;
+    present.erase(key(a, b));
+    present.erase(key(c, d));
+    present.insert(key(a, d));
+    present.insert(key(c, b));
+    result.edges[i] = {std::min(a, d), std::max(a, d)};
+    result.edges[j] = {std::min(c, b), std::max(c, b)};
+    ++result.swaps;
+  }
+  result.complete = result.swaps >= wanted;
+  return result;
+}
+
 RewireResult rewire_prefix(const filtration::Filtration& f, std::size_t edge_count, const RewireOptions& options) {
   if (edge_count > f.edges.size())
     fail(ErrorKind::argument, "rewiring asks for " + std::to_string(edge_count) + " edges but the filtration holds " +

@@ -39,6 +39,17 @@ RewireResult rewire(std::size_t nodes, const EdgeList& edges, const RewireOption
 // rewired. Weights are dropped: the null model of the graph, not of the weights.
 RewireResult rewire_prefix(const filtration::Filtration& f, std::size_t edge_count, const RewireOptions& options);
 
+// A nested rewiring of a filtration, for a null model of the whole sweep in one pass.
+// The first layer_ends.back() edges are cut into layers at layer_ends (increasing edge
+// counts, e.g. the grid's); swaps pair two edges of the same layer, so every node keeps
+// its degree within every layer, hence its degree at every layer end, and the rewired
+// graphs at successive ends are nested (a filtration, as the observed ones are). No
+// edge is ever duplicated across layers. swaps_per_edge counts swaps over all edges of
+// layers with at least two edges. The result's edges are listed layer by layer (not
+// sorted), so its prefix of layer_ends[k] edges is the rewired graph at that end.
+RewireResult rewire_nested(const filtration::Filtration& f, const std::vector<std::size_t>& layer_ends,
+                           const RewireOptions& options);
+
 // Degree of every node (a helper for checks and reports).
 std::vector<std::size_t> degrees(std::size_t nodes, const EdgeList& edges);
 

@@ -4,8 +4,10 @@
 #include <catch2/catch.hpp>
 
 #include <cmath>
+#include <set>
 
 #include "base/error.hpp"
+#include "base/random.hpp"
 #include "connectivity/pearson.hpp"
 #include "simulate/cohort_model.hpp"
 #include "simulate/rewire.hpp"
@@ -37,6 +39,47 @@ TEST_CASE("a complete graph has no legal swap: reported, not looped forever", "[
   CHECK_FALSE(r.complete);
   CHECK(r.swaps == 0);
   CHECK(r.edges == k4);
+}
+
+TEST_CASE("nested rewiring keeps every degree at every layer end, nests, and mixes", "[simulate]") {
+  // An invented filtration: 40 nodes, every pair, in a seeded random order.
+  const std::uint32_t n = 40;
+  filtration::Filtration f;
+  f.nodes = n;
+  for (std::uint32_t i = 0; i < n; ++i)
+    for (std::uint32_t j = i + 1; j < n; ++j) f.edges.push_back({i, j, 0.0, 0.0});
+  critplex::Random shuffle(5);
+  for (std::size_t k = f.edges.size() - 1; k > 0; --k)
+    std::swap(f.edges[k], f.edges[static_cast<std::size_t>(shuffle.below(k + 1))]);
+  const std::vector<std::size_t> ends{0, 78, 156, 234, 312, 390};  // density steps of 0.1 up to 0.5
+  RewireOptions o;
+  o.seed = 9;
+  const auto r = rewire_nested(f, ends, o);
+  REQUIRE(r.edges.size() == ends.back());
+  CHECK(r.complete);
+  std::set<std::pair<std::uint32_t, std::uint32_t>> seen;
+  std::size_t changed = 0;
+  for (std::size_t k = 1; k < ends.size(); ++k) {
+    EdgeList before, after;
+    for (std::size_t i = 0; i < ends[k]; ++i) {
+      before.emplace_back(std::min(f.edges[i].u, f.edges[i].v), std::max(f.edges[i].u, f.edges[i].v));
+      after.push_back(r.edges[i]);
+    }
+    // The rewired graph at each end is the prefix of the list: nested by construction,
+    // and it keeps every node's degree there.
+    CHECK(degrees(n, after) == degrees(n, before));
+  }
+  for (std::size_t i = 0; i < r.edges.size(); ++i) {
+    CHECK(r.edges[i].first < r.edges[i].second);
+    CHECK(seen.insert(r.edges[i]).second);  // no edge twice, across layers too
+    const auto orig = std::make_pair(std::min(f.edges[i].u, f.edges[i].v), std::max(f.edges[i].u, f.edges[i].v));
+    if (r.edges[i] != orig) ++changed;
+  }
+  CHECK(changed > r.edges.size() / 2);  // 10 swaps per edge leave few edges in place
+  CHECK(rewire_nested(f, ends, o).edges == r.edges);
+  o.seed = 10;
+  CHECK(rewire_nested(f, ends, o).edges != r.edges);
+  CHECK_THROWS_WITH(rewire_nested(f, {5, 3}, o), Catch::Contains("increase"));
 }
 
 TEST_CASE("rewiring rejects self-loops, duplicates and unknown nodes", "[simulate]") {
