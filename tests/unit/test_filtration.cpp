@@ -3,6 +3,7 @@
 
 #include "base/error.hpp"
 #include "filtration/filtration.hpp"
+#include "check_error.hpp"
 
 using namespace critplex;
 using namespace critplex::filtration;
@@ -64,5 +65,5 @@ TEST_CASE("bad matrices are refused with row and column", "[filtration]") {
   m = four_nodes();
   m(2, 1) = m(1, 2) = std::numeric_limits<double>::quiet_NaN();
   REQUIRE_THROWS_WITH(build(m, WeightMode::positive), Catch::Contains("not finite"));
-  REQUIRE_THROWS_AS(build(Eigen::MatrixXd::Zero(3, 4), WeightMode::positive), Error);
+  CHECK_ERROR_KIND(build(Eigen::MatrixXd::Zero(3, 4), WeightMode::positive), ErrorKind::data);
 }

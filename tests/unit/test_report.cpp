@@ -6,6 +6,7 @@
 
 #include "base/error.hpp"
 #include "report/report.hpp"
+#include "check_error.hpp"
 
 using namespace critplex;
 using namespace critplex::report;
@@ -92,7 +93,7 @@ TEST_CASE("shape errors name the group and the curve", "[report]") {
   in = small_input();
   in.groups[0].first_transition.push_back(0.2);
   CHECK_THROWS_WITH(build_report(in), Catch::Contains("first transitions"));
-  CHECK_THROWS_AS(build_report(ReportInput{}), Error);
+  CHECK_ERROR_KIND(build_report(ReportInput{}), ErrorKind::argument);
 }
 
 TEST_CASE("ticks are round numbers covering the range", "[report]") {

@@ -10,6 +10,7 @@
 #include "simulate/cohort_model.hpp"
 #include "simulate/rewire.hpp"
 #include "simulate/surrogates.hpp"
+#include "check_error.hpp"
 
 using namespace critplex;
 using namespace critplex::simulate;
@@ -58,7 +59,7 @@ TEST_CASE("surrogates keep the mean and are seeded", "[simulate]") {
     for (int j = 0; j < 3; ++j) CHECK(a.values.col(j).mean() == Approx(x.col(j).mean()).margin(1e-10));
     CHECK((a.values - x).cwiseAbs().maxCoeff() > 1e-3);
   }
-  CHECK_THROWS_AS(surrogate_method_from_name("shuffle"), Error);
+  CHECK_ERROR_KIND(surrogate_method_from_name("shuffle"), ErrorKind::argument);
   Eigen::MatrixXd bad = x;
   bad(5, 1) = std::nan("");
   CHECK_THROWS_WITH(make_surrogate(bad, {}), Catch::Contains("region 2") && Catch::Contains("time point 6"));
