@@ -1,8 +1,9 @@
 // Checks that name the error, not only that there was one: an expression must throw a
 // critplex::Error of a given ErrorKind (the kind a C caller sees as its cpx_status), and
-// optionally with a message containing a fragment.
+// optionally with a message containing a fragment (or matching any Catch string matcher).
 //   CHECK_ERROR_KIND(parse_options(j), ErrorKind::argument);
 //   CHECK_ERROR_KIND_WITH(parse_options(j), ErrorKind::argument, "max_work");
+//   CHECK_ERROR_KIND_WITH(read(f), ErrorKind::parse, Catch::Contains("f.tsv") && Catch::Contains("line 3"));
 #pragma once
 
 #include <catch2/catch.hpp>
@@ -49,6 +50,19 @@ std::string thrown_kind(Body&& body, std::string& message) {
   return "nothing thrown";
 }
 
+// The message check of CHECK_ERROR_KIND_WITH: a fragment the message must contain, or a
+// matcher used as it is.
+inline Catch::Matchers::StdString::ContainsMatcher message_matcher(const char* fragment) {
+  return Catch::Contains(fragment);
+}
+inline Catch::Matchers::StdString::ContainsMatcher message_matcher(const std::string& fragment) {
+  return Catch::Contains(fragment);
+}
+template <class Matcher>
+const Matcher& message_matcher(const Matcher& matcher) {
+  return matcher;
+}
+
 }  // namespace critplex::test
 
 #define CHECK_ERROR_KIND(expr, kind)                                                                \
@@ -65,5 +79,5 @@ std::string thrown_kind(Body&& body, std::string& message) {
     const std::string cpx_thrown_ = ::critplex::test::thrown_kind([&] { (void)(expr); }, cpx_message_); \
     INFO("expression: " #expr);                                                                     \
     CHECK(cpx_thrown_ == ::critplex::test::error_kind_name(kind));                                  \
-    CHECK_THAT(cpx_message_, Catch::Contains(fragment));                                            \
+    CHECK_THAT(cpx_message_, ::critplex::test::message_matcher(fragment));                                    \
   } while (false)

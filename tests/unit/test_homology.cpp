@@ -324,9 +324,9 @@ TEST_CASE("the progress callback can cancel", "[homology][progress]") {
 
 TEST_CASE("options are checked and index overflow fails loudly", "[homology][errors]") {
   CHECK(homology::parse_options(Json::parse(R"({"max_dimension": 3, "threads": 2})")).max_dimension == 3);
-  CHECK_THROWS_WITH(homology::parse_options(Json::parse(R"({"max_dim": 3})")), Catch::Contains("max_dim"));
-  CHECK_THROWS_WITH(homology::parse_options(Json::parse(R"({"max_dimension": -1})")), Catch::Contains("max_dimension"));
-  CHECK_THROWS_WITH(homology::parse_options(Json::parse(R"({"max_work": -5})")), Catch::Contains("max_work"));
+  CHECK_ERROR_KIND_WITH(homology::parse_options(Json::parse(R"({"max_dim": 3})")), ErrorKind::argument, Catch::Contains("max_dim"));
+  CHECK_ERROR_KIND_WITH(homology::parse_options(Json::parse(R"({"max_dimension": -1})")), ErrorKind::argument, Catch::Contains("max_dimension"));
+  CHECK_ERROR_KIND_WITH(homology::parse_options(Json::parse(R"({"max_work": -5})")), ErrorKind::argument, Catch::Contains("max_work"));
   // C(400, 32) does not fit 62 bits: the engine refuses rather than wrap.
   Eigen::MatrixXd m = Eigen::MatrixXd::Zero(400, 400);
   m(0, 1) = m(1, 0) = 0.5;

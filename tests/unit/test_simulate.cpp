@@ -41,9 +41,9 @@ TEST_CASE("a complete graph has no legal swap: reported, not looped forever", "[
 }
 
 TEST_CASE("rewiring rejects self-loops, duplicates and unknown nodes", "[simulate]") {
-  CHECK_THROWS_WITH(rewire(3, {{0, 1}, {1, 0}}, {}), Catch::Contains("edge 2") && Catch::Contains("twice"));
-  CHECK_THROWS_WITH(rewire(3, {{2, 2}}, {}), Catch::Contains("self-loop"));
-  CHECK_THROWS_WITH(rewire(3, {{0, 3}}, {}), Catch::Contains("node 3"));
+  CHECK_ERROR_KIND_WITH(rewire(3, {{0, 1}, {1, 0}}, {}), ErrorKind::argument, Catch::Contains("edge 2") && Catch::Contains("twice"));
+  CHECK_ERROR_KIND_WITH(rewire(3, {{2, 2}}, {}), ErrorKind::argument, Catch::Contains("self-loop"));
+  CHECK_ERROR_KIND_WITH(rewire(3, {{0, 3}}, {}), ErrorKind::argument, Catch::Contains("node 3"));
 }
 
 TEST_CASE("surrogates keep the mean and are seeded", "[simulate]") {
@@ -62,7 +62,7 @@ TEST_CASE("surrogates keep the mean and are seeded", "[simulate]") {
   CHECK_ERROR_KIND(surrogate_method_from_name("shuffle"), ErrorKind::argument);
   Eigen::MatrixXd bad = x;
   bad(5, 1) = std::nan("");
-  CHECK_THROWS_WITH(make_surrogate(bad, {}), Catch::Contains("region 2") && Catch::Contains("time point 6"));
+  CHECK_ERROR_KIND_WITH(make_surrogate(bad, {}), ErrorKind::data, Catch::Contains("region 2") && Catch::Contains("time point 6"));
 }
 
 TEST_CASE("demo cohort: manifest, shapes, determinism and stronger coupling when deprived", "[simulate]") {
@@ -99,7 +99,7 @@ TEST_CASE("demo cohort: manifest, shapes, determinism and stronger coupling when
     deprived += between_modules(4 + k);
   }
   CHECK(deprived > rested + 0.4);
-  CHECK_THROWS_WITH(simulate_subject(m, plan, 8), Catch::Contains("outside"));
+  CHECK_ERROR_KIND_WITH(simulate_subject(m, plan, 8), ErrorKind::argument, Catch::Contains("outside"));
   m.groups[0].name = "well rested";
-  CHECK_THROWS_WITH(plan_cohort(m), Catch::Contains("letters and digits"));
+  CHECK_ERROR_KIND_WITH(plan_cohort(m), ErrorKind::argument, Catch::Contains("letters and digits"));
 }
