@@ -287,16 +287,26 @@ struct IntervalSum {
 // counts do not fit.
 class Reduction {
  public:
+  // What the reduction found, read by map_to_grid.
+  std::vector<std::vector<int128>> counts_at;    // [interval]: snapshots at each checkpoint
+  std::vector<int128> chi_at;
+  std::vector<std::vector<std::vector<int128>>> node_at;
+  std::vector<std::vector<Int256>> curvature_at;
+  std::size_t exact_intervals;    // chi and every count exact
+  std::size_t reached_intervals;  // counts up to the cap exact
+  std::uint64_t work = 0;
+  std::string reason;
+
   Reduction(std::size_t n, const Options& o, const Schedule& s, const std::vector<std::uint32_t>& original,
             std::size_t max_nodes, const CurvatureShares& shares)
-      : n_(n), o_(o), s_(s), original_(original), max_nodes_(max_nodes), binomials_(0, 0, false),
+      : counts_at(s.intervals), chi_at(s.intervals, 0), node_at(o.node_counts ? s.intervals : 0),
+        curvature_at(o.node_curvature ? s.intervals : 0), exact_intervals(s.intervals), reached_intervals(s.intervals),
+        n_(n), o_(o), s_(s), original_(original), max_nodes_(max_nodes), binomials_(0, 0, false),
         counts_{static_cast<int128>(n)}, chi_(static_cast<int128>(n)),
         node_(o.node_counts ? n : 0, std::vector<int128>{1}),
         // Curvature sums are integers modulo 2^256: any order gives the same totals.
         // Every node starts with its own 0-simplex: kappa_i = 1.
-        curvature_(o.node_curvature ? n : 0, Int256::of(shares.denominator)),
-        counts_at(s.intervals), chi_at(s.intervals, 0), node_at(o.node_counts ? s.intervals : 0),
-        curvature_at(o.node_curvature ? s.intervals : 0), exact_intervals(s.intervals), reached_intervals(s.intervals) {}
+        curvature_(o.node_curvature ? n : 0, Int256::of(shares.denominator)) {}
 
   void run(const Walk& walk) {
     const std::size_t completed = walk.completed_edges();
@@ -404,16 +414,6 @@ class Reduction {
   int128 chi_;
   std::vector<std::vector<int128>> node_;
   std::vector<Int256> curvature_;
-
- public:
-  std::vector<std::vector<int128>> counts_at;    // [interval]: snapshots at each checkpoint
-  std::vector<int128> chi_at;
-  std::vector<std::vector<std::vector<int128>>> node_at;
-  std::vector<std::vector<Int256>> curvature_at;
-  std::size_t exact_intervals;    // chi and every count exact
-  std::size_t reached_intervals;  // counts up to the cap exact
-  std::uint64_t work = 0;
-  std::string reason;
 };
 
 // Step 4: map the grid points to the checkpoints' snapshots.
