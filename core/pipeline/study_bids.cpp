@@ -217,102 +217,107 @@ struct Writer {
   }
 };
 
-void write_layout(Writer& w, const simulate::CohortModel& model, const simulate::CohortPlan& plan,
-                  const BidsStudyOptions& layout, const Json& config) {
-  const fs::path deriv = fs::path("derivatives") / kPipeline;
-  const Grid grid = make_grid(model.regions, layout.block);
+// Where the atlas and its lookup table live, relative to the study root.
+struct AtlasFiles {
+  fs::path image, labels;
+};
 
-  // The atlas and its lookup table (BIDS "dseg": index, name).
-  const fs::path atlas = deriv / atlas_name(".nii.gz");
-  const fs::path atlas_labels = deriv / atlas_name(".tsv");
-  {
-    io::NiftiImage labels = image_on(grid);
-    labels.storage = io::NiftiStorage::int16;
-    labels.description = "critplex demo atlas (invented)";
-    labels.values.assign(grid.voxels(), 0.0);
-    std::string table = "index\tname\n";
-    for (std::size_t r = 0; r < model.regions; ++r) {
-      for (auto v : grid.region_voxels[r]) labels.values[v] = static_cast<double>(r + 1);
-      table += std::to_string(r + 1) + "\t" + plan.region_names[r] + "\n";
-    }
-    w.image(atlas, labels);
-    w.text(atlas_labels, table);
+// The atlas and its lookup table (BIDS "dseg": index, name).
+AtlasFiles write_atlas(Writer& w, const fs::path& deriv, const Grid& grid, const simulate::CohortModel& model,
+                       const simulate::CohortPlan& plan) {
+  const AtlasFiles files{deriv / atlas_name(".nii.gz"), deriv / atlas_name(".tsv")};
+  io::NiftiImage labels = image_on(grid);
+  labels.storage = io::NiftiStorage::int16;
+  labels.description = "critplex demo atlas (invented)";
+  labels.values.assign(grid.voxels(), 0.0);
+  std::string table = "index\tname\n";
+  for (std::size_t r = 0; r < model.regions; ++r) {
+    for (auto v : grid.region_voxels[r]) labels.values[v] = static_cast<double>(r + 1);
+    table += std::to_string(r + 1) + "\t" + plan.region_names[r] + "\n";
   }
+  w.image(files.image, labels);
+  w.text(files.labels, table);
+  return files;
+}
 
-  // Baselines per region, shared by every subject (drawn from the study seed).
-  std::vector<double> baseline(model.regions);
-  {
-    Random random(stream_seed(model.seed, 0));
-    for (auto& b : baseline) b = 600.0 + 600.0 * random.uniform();
-  }
-
-  const std::size_t sessions = std::max<std::size_t>(layout.sessions, 1);
-  std::vector<std::string> manifests(sessions, "subject\tgroup\timage\tlabels\tlabel_names\tconfounds\tage\n");
-  std::string participants = "participant_id\tgroup\tage\n";
+// Voxel values of one run: baseline + amplitude x series + noise summing to zero over
+// the region. `global` receives the mean level over the regions per frame.
+io::NiftiImage run_image(const Grid& grid, const simulate::CohortModel& model, const std::vector<double>& baseline,
+                         const series::Series& series, std::uint64_t noise_seed, std::vector<double>& global) {
   const std::size_t frames = model.frames;
-  for (std::size_t i = 0; i < plan.subjects.size(); ++i) {
-    const auto& subject = plan.subjects[i];
-    participants += "sub-" + subject.id + "\t" + subject.group + "\t" + io::format_double(subject.age) + "\n";
-    for (std::size_t s = 0; s < sessions; ++s) {
-      // Session 01 is the tsv layout's series; later sessions redraw the signals of the
-      // same person (same loadings' mean, global strength and age).
-      simulate::CohortPlan run_plan = plan;
-      if (s > 0) run_plan.subjects[i].seed = stream_seed(subject.seed, 100 + s);
-      const series::Series series = simulate::simulate_subject(model, run_plan, i);
-
-      Entities run{{"sub", subject.id}};
-      fs::path folder = deriv / ("sub-" + subject.id);
-      if (layout.sessions > 0) {
-        run.emplace_back("ses", two_digits(s + 1));
-        folder /= "ses-" + two_digits(s + 1);
-      }
-      folder /= "func";
-      run.emplace_back("task", kTask);
-      Entities bold_entities = run;
-      bold_entities.emplace_back("space", kSpace);
-      bold_entities.emplace_back("desc", "preproc");
-      Entities confound_entities = run;
-      confound_entities.emplace_back("desc", "confounds");
-
-      // Voxel values: baseline + amplitude x series + noise summing to zero over the region.
-      io::NiftiImage bold = image_on(grid);
-      bold.dims[3] = static_cast<std::int64_t>(frames);
-      bold.repetition_time = model.sampling_interval;
-      bold.storage = io::NiftiStorage::int16_scaled;
-      bold.description = "critplex demo run (invented)";
-      const std::size_t V = grid.voxels();
-      bold.values.assign(V * frames, 0.0);
-      Random noise(stream_seed(run_plan.subjects[i].seed, 1));
-      std::vector<double> global(frames, 0.0), draw;
-      for (std::size_t t = 0; t < frames; ++t) {
-        for (std::size_t r = 0; r < model.regions; ++r) {
-          const auto& voxels = grid.region_voxels[r];
-          const double level = baseline[r] + kAmplitude * series.values(static_cast<Eigen::Index>(t), static_cast<Eigen::Index>(r));
-          draw.resize(voxels.size());
-          double mean = 0.0;
-          for (auto& d : draw) mean += (d = kVoxelNoise * noise.normal());
-          mean /= static_cast<double>(draw.size());
-          for (std::size_t k = 0; k < voxels.size(); ++k) bold.values[voxels[k] + V * t] = level + (draw[k] - mean);
-          global[t] += level / static_cast<double>(model.regions);
-        }
-      }
-      const fs::path image = folder / bids_name(bold_entities, "bold", ".nii.gz");
-      w.image(image, bold);
-      w.json(folder / bids_name(bold_entities, "bold", ".json"),
-             {{"RepetitionTime", model.sampling_interval}, {"TaskName", kTask},
-              {"Description", std::string("Preprocessed resting-state run. ") + kInvented}});
-      const Confounds conf = make_confounds(global, frames, stream_seed(run_plan.subjects[i].seed, 2));
-      const fs::path confounds = folder / bids_name(confound_entities, "timeseries", ".tsv");
-      w.text(confounds, confounds_tsv(conf));
-      w.json(folder / bids_name(confound_entities, "timeseries", ".json"), confounds_sidecar(conf));
-      manifests[s] += subject.id + "\t" + subject.group + "\t" + image.generic_string() + "\t" + atlas.generic_string() +
-                      "\t" + atlas_labels.generic_string() + "\t" + confounds.generic_string() + "\t" +
-                      io::format_double(subject.age) + "\n";
+  io::NiftiImage bold = image_on(grid);
+  bold.dims[3] = static_cast<std::int64_t>(frames);
+  bold.repetition_time = model.sampling_interval;
+  bold.storage = io::NiftiStorage::int16_scaled;
+  bold.description = "critplex demo run (invented)";
+  const std::size_t V = grid.voxels();
+  bold.values.assign(V * frames, 0.0);
+  Random noise(noise_seed);
+  global.assign(frames, 0.0);
+  std::vector<double> draw;
+  for (std::size_t t = 0; t < frames; ++t) {
+    for (std::size_t r = 0; r < model.regions; ++r) {
+      const auto& voxels = grid.region_voxels[r];
+      const double level = baseline[r] + kAmplitude * series.values(static_cast<Eigen::Index>(t), static_cast<Eigen::Index>(r));
+      draw.resize(voxels.size());
+      double mean = 0.0;
+      for (auto& d : draw) mean += (d = kVoxelNoise * noise.normal());
+      mean /= static_cast<double>(draw.size());
+      for (std::size_t k = 0; k < voxels.size(); ++k) bold.values[voxels[k] + V * t] = level + (draw[k] - mean);
+      global[t] += level / static_cast<double>(model.regions);
     }
   }
+  return bold;
+}
 
-  // Dataset-level files: the raw root holds no images (only its description and the
-  // participants), the derivatives say what generated them.
+// One run of subject i in session s (0-based): image, sidecar and confounds. Returns
+// the run's manifest line.
+std::string write_run(Writer& w, const fs::path& deriv, const Grid& grid, const AtlasFiles& atlas,
+                      const simulate::CohortModel& model, const simulate::CohortPlan& plan,
+                      const BidsStudyOptions& layout, const std::vector<double>& baseline, std::size_t i,
+                      std::size_t s) {
+  const auto& subject = plan.subjects[i];
+  // Session 01 is the tsv layout's series; later sessions redraw the signals of the
+  // same person (same loadings' mean, global strength and age).
+  simulate::CohortPlan run_plan = plan;
+  if (s > 0) run_plan.subjects[i].seed = stream_seed(subject.seed, 100 + s);
+  const series::Series series = simulate::simulate_subject(model, run_plan, i);
+
+  Entities run{{"sub", subject.id}};
+  fs::path folder = deriv / ("sub-" + subject.id);
+  if (layout.sessions > 0) {
+    run.emplace_back("ses", two_digits(s + 1));
+    folder /= "ses-" + two_digits(s + 1);
+  }
+  folder /= "func";
+  run.emplace_back("task", kTask);
+  Entities bold_entities = run;
+  bold_entities.emplace_back("space", kSpace);
+  bold_entities.emplace_back("desc", "preproc");
+  Entities confound_entities = run;
+  confound_entities.emplace_back("desc", "confounds");
+
+  std::vector<double> global;
+  const io::NiftiImage bold = run_image(grid, model, baseline, series, stream_seed(run_plan.subjects[i].seed, 1), global);
+  const fs::path image = folder / bids_name(bold_entities, "bold", ".nii.gz");
+  w.image(image, bold);
+  w.json(folder / bids_name(bold_entities, "bold", ".json"),
+         {{"RepetitionTime", model.sampling_interval}, {"TaskName", kTask},
+          {"Description", std::string("Preprocessed resting-state run. ") + kInvented}});
+  const Confounds conf = make_confounds(global, model.frames, stream_seed(run_plan.subjects[i].seed, 2));
+  const fs::path confounds = folder / bids_name(confound_entities, "timeseries", ".tsv");
+  w.text(confounds, confounds_tsv(conf));
+  w.json(folder / bids_name(confound_entities, "timeseries", ".json"), confounds_sidecar(conf));
+  return subject.id + "\t" + subject.group + "\t" + image.generic_string() + "\t" + atlas.image.generic_string() +
+         "\t" + atlas.labels.generic_string() + "\t" + confounds.generic_string() + "\t" +
+         io::format_double(subject.age) + "\n";
+}
+
+// Dataset-level files: the raw root holds no images (only its description and the
+// participants), the derivatives say what generated them; manifests, config and model.
+void write_dataset_files(Writer& w, const fs::path& deriv, const Grid& grid, const simulate::CohortModel& model,
+                         const simulate::CohortPlan& plan, const BidsStudyOptions& layout, const Json& config,
+                         const std::string& participants, const std::vector<std::string>& manifests) {
   Json groups = Json::object();
   for (const auto& g : model.groups) groups[g.name] = "Invented group '" + g.name + "' of the demo study";
   const Json participants_sidecar = {
@@ -334,7 +339,7 @@ void write_layout(Writer& w, const simulate::CohortModel& model, const simulate:
                        "\nThe images under derivatives/ are written by `critplex simulate --layout bids`.\n"
                        "Research software, not a medical device: not for clinical decisions.\n");
   std::string ignore = "model.json\ncohort_config.json\n";
-  for (std::size_t s = 0; s < sessions; ++s) {
+  for (std::size_t s = 0; s < manifests.size(); ++s) {
     const std::string name = layout.sessions > 0 ? "manifest_ses-" + two_digits(s + 1) + ".tsv" : "manifest.tsv";
     w.text(name, manifests[s]);
     ignore += name + "\n";
@@ -346,6 +351,31 @@ void write_layout(Writer& w, const simulate::CohortModel& model, const simulate:
                          {"voxel_mm", kVoxelMm}, {"amplitude", kAmplitude}, {"voxel_noise_sd", kVoxelNoise},
                          {"grid", grid.dims}};
   w.json("model.json", model_doc);
+}
+
+void write_layout(Writer& w, const simulate::CohortModel& model, const simulate::CohortPlan& plan,
+                  const BidsStudyOptions& layout, const Json& config) {
+  const fs::path deriv = fs::path("derivatives") / kPipeline;
+  const Grid grid = make_grid(model.regions, layout.block);
+  const AtlasFiles atlas = write_atlas(w, deriv, grid, model, plan);
+
+  // Baselines per region, shared by every subject (drawn from the study seed).
+  std::vector<double> baseline(model.regions);
+  {
+    Random random(stream_seed(model.seed, 0));
+    for (auto& b : baseline) b = 600.0 + 600.0 * random.uniform();
+  }
+
+  const std::size_t sessions = std::max<std::size_t>(layout.sessions, 1);
+  std::vector<std::string> manifests(sessions, "subject\tgroup\timage\tlabels\tlabel_names\tconfounds\tage\n");
+  std::string participants = "participant_id\tgroup\tage\n";
+  for (std::size_t i = 0; i < plan.subjects.size(); ++i) {
+    const auto& subject = plan.subjects[i];
+    participants += "sub-" + subject.id + "\t" + subject.group + "\t" + io::format_double(subject.age) + "\n";
+    for (std::size_t s = 0; s < sessions; ++s)
+      manifests[s] += write_run(w, deriv, grid, atlas, model, plan, layout, baseline, i, s);
+  }
+  write_dataset_files(w, deriv, grid, model, plan, layout, config, participants, manifests);
 }
 
 }  // namespace

@@ -11,6 +11,7 @@
 #include "cliques/counts.hpp"
 #include "clique_fixtures.hpp"
 #include "cliques/pivot_tree.hpp"
+#include "check_error.hpp"
 
 using namespace critplex;
 using namespace critplex::cliques;
@@ -235,7 +236,7 @@ TEST_CASE("cancellation through the progress callback", "[cliques]") {
   Filtration f = in_order(60, modular(60, 3, 0.8, 0.1, 1));
   auto grid = every(f);
   bool called = false;
-  CHECK_THROWS_AS(count_on_grid(f, grid, Options{}, [&](double) { called = true; return true; }), Error);
+  CHECK_ERROR_KIND(count_on_grid(f, grid, Options{}, [&](double) { called = true; return true; }), ErrorKind::cancelled);
   CHECK(called);
 }
 
@@ -252,10 +253,10 @@ TEST_CASE("counts above 2^64 stay exact", "[cliques]") {
 }
 
 TEST_CASE("options: unknown keys and bad values are refused", "[cliques]") {
-  CHECK_THROWS_AS(parse_options(Json{{"max_dimensions", 3}}), Error);
-  CHECK_THROWS_AS(parse_options(Json{{"max_dimension", -2}}), Error);
-  CHECK_THROWS_AS(parse_options(Json{{"max_work", -1}}), Error);
-  CHECK_THROWS_AS(parse_options(Json{{"chi_only", true}, {"node_counts", true}}), Error);
+  CHECK_ERROR_KIND(parse_options(Json{{"max_dimensions", 3}}), ErrorKind::argument);
+  CHECK_ERROR_KIND(parse_options(Json{{"max_dimension", -2}}), ErrorKind::argument);
+  CHECK_ERROR_KIND(parse_options(Json{{"max_work", -1}}), ErrorKind::argument);
+  CHECK_ERROR_KIND(parse_options(Json{{"chi_only", true}, {"node_counts", true}}), ErrorKind::argument);
   Options o = parse_options(Json{{"max_dimension", 4}, {"threads", 2}});
   CHECK(o.max_dimension == 4);
   CHECK(o.threads == 2);
@@ -371,5 +372,5 @@ TEST_CASE("curvature is refused with chi_only", "[cliques][curvature]") {
   Options o;
   o.chi_only = true;
   o.node_curvature = true;
-  CHECK_THROWS_AS(count_on_grid(f, every(f), o, {}), Error);
+  CHECK_ERROR_KIND(count_on_grid(f, every(f), o, {}), ErrorKind::internal);
 }

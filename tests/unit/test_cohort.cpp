@@ -6,6 +6,7 @@
 
 #include "base/error.hpp"
 #include "cohort/statistics.hpp"
+#include "check_error.hpp"
 
 using namespace critplex;
 using namespace critplex::cohort;
@@ -58,7 +59,7 @@ TEST_CASE("Benjamini-Hochberg is monotone in p and bounded by 1", "[cohort]") {
   CHECK(q[2] == Approx(0.16 / 3.0));
   CHECK(q[3] == Approx(0.5));
   CHECK(benjamini_hochberg({}).empty());
-  CHECK_THROWS_AS(benjamini_hochberg({0.5, 1.5}), Error);
+  CHECK_ERROR_KIND(benjamini_hochberg({0.5, 1.5}), ErrorKind::data);
 }
 
 TEST_CASE("residuals are orthogonal to the covariates", "[cohort]") {
@@ -69,7 +70,7 @@ TEST_CASE("residuals are orthogonal to the covariates", "[cohort]") {
   const Eigen::VectorXd r = residualise(y, x);
   CHECK(std::fabs(r.sum()) < 1e-12);
   CHECK(std::fabs(r.dot(x.col(0))) < 1e-9);
-  CHECK_THROWS_AS(residualise(y, Eigen::MatrixXd::Ones(6, 1)), Error);
+  CHECK_ERROR_KIND(residualise(y, Eigen::MatrixXd::Ones(6, 1)), ErrorKind::data);
 }
 
 TEST_CASE("Student t quantile inverts the cdf", "[cohort]") {
@@ -93,7 +94,7 @@ TEST_CASE("bootstrap band contains the mean and is seeded", "[cohort]") {
     CHECK(b1.lower[j] == b2.lower[j]);
   }
   curves(2, 1) = std::nan("");
-  CHECK_THROWS_WITH(bootstrap_mean_band(curves, o), Catch::Contains("subject 3") && Catch::Contains("point 2"));
+  CHECK_ERROR_KIND_WITH(bootstrap_mean_band(curves, o), ErrorKind::data, Catch::Contains("subject 3") && Catch::Contains("point 2"));
 }
 
 TEST_CASE("cluster test finds a shifted stretch and rejects bad shapes", "[cohort]") {
@@ -110,11 +111,11 @@ TEST_CASE("cluster test finds a shifted stretch and rejects bad shapes", "[cohor
   CHECK(r.clusters[0].first == 4);
   CHECK(r.clusters[0].last == 7);
   CHECK(r.clusters[0].p_value == Approx(2.0 / 252.0));  // the observed labelling and its mirror
-  CHECK_THROWS_AS(cluster_permutation_test(a, Eigen::MatrixXd::Zero(5, 11), {}), Error);
+  CHECK_ERROR_KIND(cluster_permutation_test(a, Eigen::MatrixXd::Zero(5, 11), {}), ErrorKind::argument);
 }
 
 TEST_CASE("too few subjects is a clear error", "[cohort]") {
-  CHECK_THROWS_WITH(permutation_test({1.0}, {1.0, 2.0}, {}), Catch::Contains("at least 2"));
+  CHECK_ERROR_KIND_WITH(permutation_test({1.0}, {1.0, 2.0}, {}), ErrorKind::data, Catch::Contains("at least 2"));
 }
 
 TEST_CASE("several summaries: missing values left out, BH across summaries", "[cohort]") {
@@ -132,7 +133,7 @@ TEST_CASE("several summaries: missing values left out, BH across summaries", "[c
   CHECK(rows[1].p_adjusted == bh[1]);
   in.covariates_a = Eigen::MatrixXd::Ones(3, 1);  // 3 rows for 4 subjects
   in.covariates_b = Eigen::MatrixXd::Ones(3, 1);
-  CHECK_THROWS_WITH(compare_summaries(in, {}), Catch::Contains("first zero"));
+  CHECK_ERROR_KIND_WITH(compare_summaries(in, {}), ErrorKind::argument, Catch::Contains("first zero"));
 }
 
 TEST_CASE("a summary with one value for every subject is not tested", "[cohort]") {

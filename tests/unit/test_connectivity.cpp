@@ -12,6 +12,7 @@
 #include "connectivity/pearson.hpp"
 #include "connectivity/phase.hpp"
 #include "connectivity/shrinkage.hpp"
+#include "check_error.hpp"
 
 using namespace critplex;
 using namespace critplex::connectivity;
@@ -82,12 +83,12 @@ TEST_CASE("Phase coupling of known signals") {
 
 TEST_CASE("Connect options: unknown keys and bad values are errors naming the key") {
   using nlohmann::json;
-  CHECK_THROWS_WITH(parse_connect_options(json{{"method", "kendall"}}, "opts"), Catch::Contains("\"method\""));
-  CHECK_THROWS_WITH(parse_connect_options(json{{"clean", {{"trend", 1}}}}, "opts"), Catch::Contains("\"clean.trend\""));
-  CHECK_THROWS_WITH(parse_connect_options(json{{"filter", {{"low_hz", 0.01}, {"order", 40}}}}, "opts"),
+  CHECK_ERROR_KIND_WITH(parse_connect_options(json{{"method", "kendall"}}, "opts"), ErrorKind::argument, Catch::Contains("\"method\""));
+  CHECK_ERROR_KIND_WITH(parse_connect_options(json{{"clean", {{"trend", 1}}}}, "opts"), ErrorKind::argument, Catch::Contains("\"clean.trend\""));
+  CHECK_ERROR_KIND_WITH(parse_connect_options(json{{"filter", {{"low_hz", 0.01}, {"order", 40}}}}, "opts"), ErrorKind::argument,
                     Catch::Contains("[1, 12]"));
-  CHECK_THROWS_WITH(parse_connect_options(json{{"bands", {{"a b", {1, 2}}}}}, "opts"), Catch::Contains("letters"));
-  CHECK_THROWS_WITH(parse_connect_options(json{{"partial_basis", "oas"}}, "opts"), Catch::Contains("partial"));
+  CHECK_ERROR_KIND_WITH(parse_connect_options(json{{"bands", {{"a b", {1, 2}}}}}, "opts"), ErrorKind::argument, Catch::Contains("letters"));
+  CHECK_ERROR_KIND_WITH(parse_connect_options(json{{"partial_basis", "oas"}}, "opts"), ErrorKind::argument, Catch::Contains("partial"));
   const auto o = parse_connect_options(json{{"bands", {{"beta", {13, 30}}, {"alpha", {8, 13}}, {"delta", {1, 4}}}}}, "opts");
   REQUIRE(o.bands.size() == 3);
   CHECK(o.bands[0].name == "delta");

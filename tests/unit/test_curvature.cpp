@@ -15,6 +15,7 @@
 #include "filtration/filtration.hpp"
 #include "output/sweep.hpp"
 #include "pipeline/sweep.hpp"
+#include "check_error.hpp"
 
 using namespace critplex;
 using namespace critplex::curvature;
@@ -184,9 +185,9 @@ TEST_CASE("Gauss-Bonnet fails loudly on inconsistent counts", "[curvature]") {
   std::vector<std::vector<int128>> triangle(3, std::vector<int128>{1, 2, 1});
   NodeCurvature c = node_curvature(triangle);
   CHECK(check_gauss_bonnet(c, 1).exact);
-  CHECK_THROWS_AS(check_gauss_bonnet(c, 2), Error);
+  CHECK_ERROR_KIND(check_gauss_bonnet(c, 2), ErrorKind::internal);
   std::vector<std::vector<int128>> bad{{2, 1}};
-  CHECK_THROWS_AS(node_curvature(bad), Error);
+  CHECK_ERROR_KIND(node_curvature(bad), ErrorKind::internal);
 }
 
 TEST_CASE("huge counts fall back to binary128 and still satisfy Gauss-Bonnet", "[curvature]") {
@@ -291,11 +292,11 @@ TEST_CASE("the engine on a sweep grid agrees with brute force", "[curvature]") {
 }
 
 TEST_CASE("curvature options are checked", "[curvature]") {
-  CHECK_THROWS_AS(parse_options(Json{{"bins", 0}}), Error);
-  CHECK_THROWS_AS(parse_options(Json{{"quantiles", {1.5}}}), Error);
-  CHECK_THROWS_AS(parse_options(Json{{"range", {1, 0}}, {"bins", 5}}), Error);
-  CHECK_THROWS_AS(parse_options(Json{{"range", {0, 1}}}), Error);  // range needs fixed bins
-  CHECK_THROWS_AS(parse_options(Json{{"colour", "red"}}), Error);
+  CHECK_ERROR_KIND(parse_options(Json{{"bins", 0}}), ErrorKind::argument);
+  CHECK_ERROR_KIND(parse_options(Json{{"quantiles", {1.5}}}), ErrorKind::argument);
+  CHECK_ERROR_KIND(parse_options(Json{{"range", {1, 0}}, {"bins", 5}}), ErrorKind::argument);
+  CHECK_ERROR_KIND(parse_options(Json{{"range", {0, 1}}}), ErrorKind::argument);  // range needs fixed bins
+  CHECK_ERROR_KIND(parse_options(Json{{"colour", "red"}}), ErrorKind::argument);
   Options o = parse_options(Json{{"bins", 7}, {"range", {-1, 1}}, {"forman", false}});
   CHECK_FALSE(o.auto_bins);
   CHECK(o.bins == 7);
@@ -383,10 +384,10 @@ TEST_CASE("Gauss-Bonnet on the engine's sums fails loudly when a sum is off", "[
   // A triangle: kappa = 1/3 per node (1 - 2/2 + 1/3), chi = 1; D = 6.
   std::vector<cliques::Int256> sums(3, cliques::Int256::of(2));
   CHECK(check_gauss_bonnet(node_curvature_from_sums(sums, 6, true), 1).exact);
-  CHECK_THROWS_AS(check_gauss_bonnet(node_curvature_from_sums(sums, 6, true), 2), Error);
+  CHECK_ERROR_KIND(check_gauss_bonnet(node_curvature_from_sums(sums, 6, true), 2), ErrorKind::internal);
   sums[0] += int128{1};  // off by 1/6
-  CHECK_THROWS_AS(check_gauss_bonnet(node_curvature_from_sums(sums, 6, true), 1), Error);
-  CHECK_THROWS_AS(check_gauss_bonnet(node_curvature_from_sums(sums, 6, false), 1), Error);
+  CHECK_ERROR_KIND(check_gauss_bonnet(node_curvature_from_sums(sums, 6, true), 1), ErrorKind::internal);
+  CHECK_ERROR_KIND(check_gauss_bonnet(node_curvature_from_sums(sums, 6, false), 1), ErrorKind::internal);
 }
 
 TEST_CASE("a sweep with curvature no longer carries node counts; asked for, they still come", "[curvature]") {

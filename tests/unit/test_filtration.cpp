@@ -3,6 +3,7 @@
 
 #include "base/error.hpp"
 #include "filtration/filtration.hpp"
+#include "check_error.hpp"
 
 using namespace critplex;
 using namespace critplex::filtration;
@@ -60,9 +61,9 @@ TEST_CASE("grid points are reported after tied edges", "[filtration]") {
 TEST_CASE("bad matrices are refused with row and column", "[filtration]") {
   Eigen::MatrixXd m = four_nodes();
   m(0, 3) = 0.3;
-  REQUIRE_THROWS_WITH(build(m, WeightMode::positive), Catch::Contains("not symmetric") && Catch::Contains("row 1, column 4"));
+  CHECK_ERROR_KIND_WITH(build(m, WeightMode::positive), ErrorKind::data, Catch::Contains("not symmetric") && Catch::Contains("row 1, column 4"));
   m = four_nodes();
   m(2, 1) = m(1, 2) = std::numeric_limits<double>::quiet_NaN();
-  REQUIRE_THROWS_WITH(build(m, WeightMode::positive), Catch::Contains("not finite"));
-  REQUIRE_THROWS_AS(build(Eigen::MatrixXd::Zero(3, 4), WeightMode::positive), Error);
+  CHECK_ERROR_KIND_WITH(build(m, WeightMode::positive), ErrorKind::data, Catch::Contains("not finite"));
+  CHECK_ERROR_KIND(build(Eigen::MatrixXd::Zero(3, 4), WeightMode::positive), ErrorKind::data);
 }

@@ -17,6 +17,7 @@
 #include "filtration/filtration.hpp"
 #include "output/sweep.hpp"
 #include "homology/persistence.hpp"
+#include "check_error.hpp"
 
 using namespace critplex;
 using Edges = std::vector<std::pair<int, int>>;
@@ -323,9 +324,9 @@ TEST_CASE("the progress callback can cancel", "[homology][progress]") {
 
 TEST_CASE("options are checked and index overflow fails loudly", "[homology][errors]") {
   CHECK(homology::parse_options(Json::parse(R"({"max_dimension": 3, "threads": 2})")).max_dimension == 3);
-  CHECK_THROWS_WITH(homology::parse_options(Json::parse(R"({"max_dim": 3})")), Catch::Contains("max_dim"));
-  CHECK_THROWS_WITH(homology::parse_options(Json::parse(R"({"max_dimension": -1})")), Catch::Contains("max_dimension"));
-  CHECK_THROWS_WITH(homology::parse_options(Json::parse(R"({"max_work": -5})")), Catch::Contains("max_work"));
+  CHECK_ERROR_KIND_WITH(homology::parse_options(Json::parse(R"({"max_dim": 3})")), ErrorKind::argument, Catch::Contains("max_dim"));
+  CHECK_ERROR_KIND_WITH(homology::parse_options(Json::parse(R"({"max_dimension": -1})")), ErrorKind::argument, Catch::Contains("max_dimension"));
+  CHECK_ERROR_KIND_WITH(homology::parse_options(Json::parse(R"({"max_work": -5})")), ErrorKind::argument, Catch::Contains("max_work"));
   // C(400, 32) does not fit 62 bits: the engine refuses rather than wrap.
   Eigen::MatrixXd m = Eigen::MatrixXd::Zero(400, 400);
   m(0, 1) = m(1, 0) = 0.5;
@@ -361,7 +362,7 @@ TEST_CASE("Euler-Poincare holds against the clique engine", "[homology][cliques]
     // A wrong chi is caught, not passed on.
     auto wrong = counts.chi;
     wrong[1] += 1;
-    CHECK_THROWS_AS(homology::check_euler_poincare(bars, counts.counts, wrong, counts.complete_points), Error);
+    CHECK_ERROR_KIND(homology::check_euler_poincare(bars, counts.counts, wrong, counts.complete_points), ErrorKind::internal);
   }
 }
 

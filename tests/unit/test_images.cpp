@@ -12,11 +12,13 @@
 #include <cstdio>
 #include <filesystem>
 #include <limits>
+#include <tuple>
 
 #include "base/error.hpp"
 #include "image_writer.hpp"
 #include "io/nifti.hpp"
 #include "io/xml.hpp"
+#include "check_error.hpp"
 
 using namespace critplex;
 using image_writer::Image;
@@ -138,7 +140,7 @@ TEST_CASE("XML errors name the source, the line and the column", "[images][xml]"
   };
   for (const auto& [doc, fragment] : cases) {
     INFO(doc);
-    CHECK_THROWS_WITH(io::parse_xml(doc, "'h.nii' (CIFTI header)"), Catch::Contains("'h.nii' (CIFTI header): XML line") &&
+    CHECK_ERROR_KIND_WITH(io::parse_xml(doc, "'h.nii' (CIFTI header)"), ErrorKind::parse, Catch::Contains("'h.nii' (CIFTI header): XML line") &&
                                                                         Catch::Contains(fragment));
   }
 }
@@ -147,20 +149,20 @@ TEST_CASE("XML limits: depth, elements, attributes and size", "[images][xml]") {
   io::XmlLimits limits;
   limits.max_depth = 4;
   CHECK_NOTHROW(io::parse_xml("<a><a><a><a/></a></a></a>", "x", limits));
-  CHECK_THROWS_WITH(io::parse_xml("<a><a><a><a><a/></a></a></a></a>", "x", limits), Catch::Contains("nested more than 4 deep"));
+  CHECK_ERROR_KIND_WITH(io::parse_xml("<a><a><a><a><a/></a></a></a></a>", "x", limits), ErrorKind::parse, Catch::Contains("nested more than 4 deep"));
   // Deep nesting is refused at the limit, without recursing further (no stack overflow).
   std::string deep;
   for (int k = 0; k < 100000; ++k) deep += "<a>";
-  CHECK_THROWS_WITH(io::parse_xml(deep, "x"), Catch::Contains("nested more than 32 deep"));
+  CHECK_ERROR_KIND_WITH(io::parse_xml(deep, "x"), ErrorKind::parse, Catch::Contains("nested more than 32 deep"));
   limits = {};
   limits.max_elements = 3;
-  CHECK_THROWS_WITH(io::parse_xml("<a><b/><b/><b/></a>", "x", limits), Catch::Contains("more than 3 elements"));
+  CHECK_ERROR_KIND_WITH(io::parse_xml("<a><b/><b/><b/></a>", "x", limits), ErrorKind::parse, Catch::Contains("more than 3 elements"));
   limits = {};
   limits.max_attributes = 2;
-  CHECK_THROWS_WITH(io::parse_xml("<a x='1' y='2' z='3'/>", "x", limits), Catch::Contains("more than 2 attributes"));
+  CHECK_ERROR_KIND_WITH(io::parse_xml("<a x='1' y='2' z='3'/>", "x", limits), ErrorKind::parse, Catch::Contains("more than 2 attributes"));
   limits = {};
   limits.max_bytes = 10;
-  CHECK_THROWS_WITH(io::parse_xml("<a>0123456789</a>", "x", limits), Catch::Contains("more than the limit of 10"));
+  CHECK_ERROR_KIND_WITH(io::parse_xml("<a>0123456789</a>", "x", limits), ErrorKind::parse, Catch::Contains("more than the limit of 10"));
   CHECK(io::is_utf8("plain \xE2\x98\xBA"));
   CHECK_FALSE(io::is_utf8("\xC0\xAF"));  // overlong '/'
   CHECK_FALSE(io::is_utf8("\xF4\x90\x80\x80"));  // past U+10FFFF
@@ -265,7 +267,7 @@ TEST_CASE("NIfTI headers that declare more than the file holds are refused befor
   for (const auto& c : cases) {
     INFO(c.name);
     const auto path = dir.file(c.name, c.image.bytes());
-    CHECK_THROWS_WITH(io::read_image_series(c.as_labels ? good_image : path, c.as_labels ? path : good_labels, options()),
+    CHECK_ERROR_KIND_WITH(io::read_image_series(c.as_labels ? good_image : path, c.as_labels ? path : good_labels, options()), ErrorKind::parse,
                       Catch::Contains("'" + path + "'") && Catch::Contains(c.fragment));
   }
 }
@@ -288,19 +290,19 @@ TEST_CASE("labels must be whole numbers from 0 to 2^53: no wrapped or rounded re
   for (const auto& c : cases) {
     INFO(c.fragment);
     const auto labels = dir.file("atlas.nii", label_image(c.labels, c.datatype).bytes());
-    CHECK_THROWS_WITH(io::read_image_series(image, labels, options()), Catch::Contains("'" + labels + "'") && Catch::Contains(c.fragment));
+    CHECK_ERROR_KIND_WITH(io::read_image_series(image, labels, options()), ErrorKind::data, Catch::Contains("'" + labels + "'") && Catch::Contains(c.fragment));
   }
   // 64-bit integer labels are checked before any conversion.
   Image l = label_image({}, 1024);
   for (std::int64_t v : {std::int64_t{2}, std::int64_t{2}, std::int64_t{0}, std::int64_t{7}, std::int64_t{7}, std::int64_t{1} << 60})
     l.data.append(reinterpret_cast<const char*>(&v), 8);
   l.datatype = 1024;
-  CHECK_THROWS_WITH(io::read_image_series(image, dir.file("int64.nii", l.bytes()), options()),
+  CHECK_ERROR_KIND_WITH(io::read_image_series(image, dir.file("int64.nii", l.bytes()), options()), ErrorKind::data,
                     Catch::Contains("holds 1152921504606846976, not an integer label"));
   Image u = label_image({}, 1280);
   u.datatype = 1280;
   for (std::uint64_t v : {2ull, 2ull, 0ull, 7ull, 7ull, ~0ull}) u.data.append(reinterpret_cast<const char*>(&v), 8);
-  CHECK_THROWS_WITH(io::read_image_series(image, dir.file("uint64.nii", u.bytes()), options()),
+  CHECK_ERROR_KIND_WITH(io::read_image_series(image, dir.file("uint64.nii", u.bytes()), options()), ErrorKind::data,
                     Catch::Contains("holds 18446744073709551615, not an integer label"));
   // A label as large as 2^53 is still exact.
   const auto big = dir.file("big.nii", label_image({2, 2, 0, 7, 7, 9007199254740992.0}, 64).bytes());
@@ -314,7 +316,7 @@ TEST_CASE("gzip images stream; a short stream names the frame; the budget bounds
   Image img = series_image(1, false);
   img.data.resize(img.data.size() / 2);  // 2.5 of 5 frames
   const auto image = dir.file("short.nii.gz", img.bytes(), true);
-  CHECK_THROWS_WITH(io::read_image_series(image, labels, options()),
+  CHECK_ERROR_KIND_WITH(io::read_image_series(image, labels, options()), ErrorKind::parse,
                     Catch::Contains("'" + image + "': the file ends inside frame 3 of 5"));
   // A compressed label image declaring 2^31 voxels holding only six: refused when the data
   // run out, having held no more than was decoded.
@@ -325,7 +327,7 @@ TEST_CASE("gzip images stream; a short stream names the frame; the budget bounds
   series.dims = {2048, 1024, 1024, 2};
   series.data.clear();
   const auto huge_image = dir.file("huge_bold.nii.gz", series.bytes(), true);
-  CHECK_THROWS_WITH(io::read_image_series(huge_image, huge, options()), Catch::Contains("'" + huge + "': the file ends inside the labels"));
+  CHECK_ERROR_KIND_WITH(io::read_image_series(huge_image, huge, options()), ErrorKind::parse, Catch::Contains("'" + huge + "': the file ends inside the labels"));
 
   // 5 frames x 2 regions x 16 bytes fit in 1 MiB; a frame count past it does not.
   io::ImageOptions small;
@@ -354,29 +356,31 @@ TEST_CASE("NIfTI label tables and mismatched inputs", "[images][nifti]") {
   o.label_names = dir.file("names.tsv", "index\tname\n7\tright\n2\tleft\n");
   const auto s = io::read_image_series(image, labels, o);
   CHECK(s.names == std::vector<std::string>{"left", "right"});
-  const std::vector<std::pair<std::string, std::string>> bad_tables = {
-      {"2\tleft\n7\tleft\n", "labels 2 and 7 are both named 'left'"},
-      {"2\tleft\n7\tri\x01ght\n", "line 2: the region name 'ri\x01ght' holds a control character"},
-      {"2\tleft\n7\t\xff\xfe\n", "line 2: not valid UTF-8"},
-      {"2\tleft\n99999999999999999999\tx\n", "line 2: label index '99999999999999999999' is not a whole number"},
-      {"2\tleft\n", "label 7 (3 voxels in '" + labels + "') is missing from"},
-      {"2\tleft\n7\tright\n9\tnowhere\n", "label 9 ('nowhere') of"},
+  // A table that cannot be read as text is a parse error; names that do not fit the
+  // image are data errors.
+  const std::vector<std::tuple<std::string, ErrorKind, std::string>> bad_tables = {
+      {"2\tleft\n7\tleft\n", ErrorKind::data, "labels 2 and 7 are both named 'left'"},
+      {"2\tleft\n7\tri\x01ght\n", ErrorKind::data, "line 2: the region name 'ri\x01ght' holds a control character"},
+      {"2\tleft\n7\t\xff\xfe\n", ErrorKind::parse, "line 2: not valid UTF-8"},
+      {"2\tleft\n99999999999999999999\tx\n", ErrorKind::parse, "line 2: label index '99999999999999999999' is not a whole number"},
+      {"2\tleft\n", ErrorKind::data, "label 7 (3 voxels in '" + labels + "') is missing from"},
+      {"2\tleft\n7\tright\n9\tnowhere\n", ErrorKind::data, "label 9 ('nowhere') of"},
   };
-  for (const auto& [table, fragment] : bad_tables) {
+  for (const auto& [table, kind, fragment] : bad_tables) {
     INFO(fragment);
     o.label_names = dir.file("bad.tsv", table);
-    CHECK_THROWS_WITH(io::read_image_series(image, labels, o), Catch::Contains(fragment));
+    CHECK_ERROR_KIND_WITH(io::read_image_series(image, labels, o), kind, Catch::Contains(fragment));
   }
-  CHECK_THROWS_WITH(io::read_image_series(image, "", options()), Catch::Contains("needs a label image") || Catch::Contains("need a label image"));
-  CHECK_THROWS_WITH(io::read_image_series(image, dir.path, options()), Catch::Contains("is a folder"));
-  CHECK_THROWS_WITH(io::read_image_series(dir.path + "/none.nii", labels, options()), Catch::Contains("cannot open") && Catch::Contains("none.nii"));
-  CHECK_THROWS_WITH(io::read_image_series(labels, labels, options()), Catch::Contains("is not a 4-D series"));
-  CHECK_THROWS_WITH(io::read_image_series(image, dir.file("zero.nii", label_image({0, 0, 0, 0, 0, 0}).bytes()), options()),
+  CHECK_ERROR_KIND_WITH(io::read_image_series(image, "", options()), ErrorKind::argument, Catch::Contains("needs a label image") || Catch::Contains("need a label image"));
+  CHECK_ERROR_KIND_WITH(io::read_image_series(image, dir.path, options()), ErrorKind::io, Catch::Contains("is a folder"));
+  CHECK_ERROR_KIND_WITH(io::read_image_series(dir.path + "/none.nii", labels, options()), ErrorKind::io, Catch::Contains("cannot open") && Catch::Contains("none.nii"));
+  CHECK_ERROR_KIND_WITH(io::read_image_series(labels, labels, options()), ErrorKind::data, Catch::Contains("is not a 4-D series"));
+  CHECK_ERROR_KIND_WITH(io::read_image_series(image, dir.file("zero.nii", label_image({0, 0, 0, 0, 0, 0}).bytes()), options()), ErrorKind::data,
                     Catch::Contains("no labelled voxels"));
   Image other = label_image(voxel_labels);
   other.dims = {2, 3, 1};
-  CHECK_THROWS_WITH(io::read_image_series(image, dir.file("other.nii", other.bytes()), options()), Catch::Contains("grids differ"));
-  CHECK_THROWS_WITH(io::read_image_series(dir.file("text.nii", std::string(400, 'x')), labels, options()),
+  CHECK_ERROR_KIND_WITH(io::read_image_series(image, dir.file("other.nii", other.bytes()), options()), ErrorKind::data, Catch::Contains("grids differ"));
+  CHECK_ERROR_KIND_WITH(io::read_image_series(dir.file("text.nii", std::string(400, 'x')), labels, options()), ErrorKind::parse,
                     Catch::Contains("is not a NIfTI image"));
 }
 
@@ -445,7 +449,7 @@ TEST_CASE("CIFTI dense series with a dense label file", "[images][cifti]") {
   // Label 9 sits on vertex 4, which the series lacks: an error, since a region would vanish.
   const auto full = dir.file("atlas.dlabel.nii",
                              image_writer::cifti(cifti_xml(label_map_xml(full_table) + atlas_models), 1, 6, atlas_labels).bytes());
-  CHECK_THROWS_WITH(io::read_image_series(series, full, options()),
+  CHECK_ERROR_KIND_WITH(io::read_image_series(series, full, options()), ErrorKind::data,
                     Catch::Contains("label 9 ('unused here') covers 1 brainordinates of '" + full + "', none of them in '" + series + "'"));
   std::vector<double> labels = atlas_labels;
   labels[5] = 0;
@@ -471,11 +475,11 @@ TEST_CASE("CIFTI dense series with a dense label file", "[images][cifti]") {
   for (double k : labels) two_maps.push_back(-1.5), two_maps.push_back(k);  // map "a" holds no labels
   const auto dscalar = dir.file("atlas.dscalar.nii", image_writer::cifti(cifti_xml(scalars + atlas_models), 2, 6, two_maps).bytes());
   io::ImageOptions o;
-  CHECK_THROWS_WITH(io::read_image_series(series, dscalar, o), Catch::Contains("has 2 maps ('a', 'b'); choose one"));
+  CHECK_ERROR_KIND_WITH(io::read_image_series(series, dscalar, o), ErrorKind::argument, Catch::Contains("has 2 maps ('a', 'b'); choose one"));
   o.label_map = "b";
   CHECK(io::read_image_series(series, dscalar, o).names == std::vector<std::string>{"label-2", "label-5"});
   o.label_map = "1";
-  CHECK_THROWS_WITH(io::read_image_series(series, dscalar, o), Catch::Contains("holds -1.5, not an integer label"));
+  CHECK_ERROR_KIND_WITH(io::read_image_series(series, dscalar, o), ErrorKind::data, Catch::Contains("holds -1.5, not an integer label"));
   o.label_map = "2";
   o.label_names = dir.file("names.tsv", "2\tfront\n5\tback\n");
   CHECK(io::read_image_series(series, dscalar, o).names == std::vector<std::string>{"front", "back"});
@@ -509,11 +513,11 @@ TEST_CASE("CIFTI parcellated series: parcels are the regions, with their names",
   for (int p = 0; p < 3; ++p)
     for (int t = 0; t < 6; ++t) CHECK(s.values(t, p) == static_cast<float>(values[static_cast<std::size_t>(6 * p + t)]));
   CHECK(s.sampling_interval == Approx(0.72));
-  CHECK_THROWS_WITH(io::read_image_series(path, path, options()), Catch::Contains("is a parcellated series: its parcels are the regions"));
+  CHECK_ERROR_KIND_WITH(io::read_image_series(path, path, options()), ErrorKind::argument, Catch::Contains("is a parcellated series: its parcels are the regions"));
 
   std::string twice = parcels;
   twice.replace(twice.find("left motor"), 10, "left visual");
-  CHECK_THROWS_WITH(io::read_image_series(dir.file("twice.ptseries.nii", image_writer::cifti(cifti_xml(series_map(0, 6) + twice), 6, 3, values).bytes()), "", options()),
+  CHECK_ERROR_KIND_WITH(io::read_image_series(dir.file("twice.ptseries.nii", image_writer::cifti(cifti_xml(series_map(0, 6) + twice), 6, 3, values).bytes()), "", options()), ErrorKind::data,
                     Catch::Contains("parcels 1 and 2 are both named 'left visual'"));
 }
 
@@ -549,24 +553,24 @@ TEST_CASE("CIFTI errors name the file and the element", "[images][cifti][hardeni
   for (const auto& [xml, fragment] : cases) {
     INFO(fragment);
     const auto path = dir.file("bad.dtseries.nii", image_writer::cifti(xml, dense_frames, brainordinates, dense_values()).bytes());
-    CHECK_THROWS_WITH(io::read_image_series(path, atlas, options()), Catch::Contains("'" + path + "'") && Catch::Contains(fragment));
+    CHECK_ERROR_KIND_WITH(io::read_image_series(path, atlas, options()), ErrorKind::parse, Catch::Contains("'" + path + "'") && Catch::Contains(fragment));
   }
   const auto series = dir.file("s.dtseries.nii", image_writer::cifti(cifti_xml(good), dense_frames, brainordinates, dense_values()).bytes());
-  CHECK_THROWS_WITH(io::read_image_series(series, "", options()), Catch::Contains("is a dense series: its regions need a dense label file"));
-  CHECK_THROWS_WITH(io::read_image_series(atlas, series, options()), Catch::Contains("not a series"));
-  CHECK_THROWS_WITH(io::read_image_series(series, series, options()),
+  CHECK_ERROR_KIND_WITH(io::read_image_series(series, "", options()), ErrorKind::argument, Catch::Contains("is a dense series: its regions need a dense label file"));
+  CHECK_ERROR_KIND_WITH(io::read_image_series(atlas, series, options()), ErrorKind::data, Catch::Contains("not a series"));
+  CHECK_ERROR_KIND_WITH(io::read_image_series(series, series, options()), ErrorKind::data,
                     Catch::Contains("is a CIFTI file of series x brain models; a label file for a dense series maps label"));
   const auto volume_labels = dir.file("vol.nii", label_image(voxel_labels).bytes());
-  CHECK_THROWS_WITH(io::read_image_series(series, volume_labels, options()), Catch::Contains("is not a CIFTI file"));
+  CHECK_ERROR_KIND_WITH(io::read_image_series(series, volume_labels, options()), ErrorKind::data, Catch::Contains("is not a CIFTI file"));
   // A label used by the atlas but missing from its table, and meshes that differ.
   std::string table = full_table;
   table.erase(table.find("<Label Key=\"5\""), table.find("<Label Key=\"9\"") - table.find("<Label Key=\"5\""));
   const auto missing = dir.file("missing.dlabel.nii",
                                 image_writer::cifti(cifti_xml(label_map_xml(table) + atlas_models), 1, 6, {5, 2, 2, 5, 0, 0}).bytes());
-  CHECK_THROWS_WITH(io::read_image_series(series, missing, options()), Catch::Contains("label 5 is used by the atlas but missing from '" + missing + "'"));
+  CHECK_ERROR_KIND_WITH(io::read_image_series(series, missing, options()), ErrorKind::data, Catch::Contains("label 5 is used by the atlas but missing from '" + missing + "'"));
   std::string other_mesh = atlas_models;
   other_mesh.replace(other_mesh.find("SurfaceNumberOfVertices=\"5\""), 27, "SurfaceNumberOfVertices=\"6\"");
   const auto mesh = dir.file("mesh.dlabel.nii",
                              image_writer::cifti(cifti_xml(label_map_xml(full_table) + other_mesh), 1, 6, {5, 2, 2, 5, 0, 0}).bytes());
-  CHECK_THROWS_WITH(io::read_image_series(series, mesh, options()), Catch::Contains("surfaces differ: CIFTI_STRUCTURE_CORTEX_LEFT has 5 vertices"));
+  CHECK_ERROR_KIND_WITH(io::read_image_series(series, mesh, options()), ErrorKind::data, Catch::Contains("surfaces differ: CIFTI_STRUCTURE_CORTEX_LEFT has 5 vertices"));
 }

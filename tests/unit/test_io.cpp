@@ -9,6 +9,7 @@
 #include "base/exact.hpp"
 #include "base/options.hpp"
 #include "io/files.hpp"
+#include "check_error.hpp"
 
 using namespace critplex;
 
@@ -75,26 +76,26 @@ TEST_CASE("NPY float64 C order and float32 Fortran order", "[io]") {
 }
 
 TEST_CASE("bad time series files name the file and the place", "[io]") {
-  CHECK_THROWS_WITH(io::read_series("/nonexistent/x.tsv", Json::object()), Catch::Contains("cannot open '/nonexistent/x.tsv'"));
+  CHECK_ERROR_KIND_WITH(io::read_series("/nonexistent/x.tsv", Json::object()), ErrorKind::io, Catch::Contains("cannot open '/nonexistent/x.tsv'"));
   TempFile empty("e.tsv", "");
-  CHECK_THROWS_WITH(io::read_series(empty.path, Json::object()), Catch::Contains("is empty"));
+  CHECK_ERROR_KIND_WITH(io::read_series(empty.path, Json::object()), ErrorKind::parse, Catch::Contains("is empty"));
   TempFile ragged("r.tsv", "a\tb\n1\t2\n3\n4\t5\n");
-  CHECK_THROWS_WITH(io::read_series(ragged.path, Json::object()), Catch::Contains("line 3") && Catch::Contains("ragged"));
+  CHECK_ERROR_KIND_WITH(io::read_series(ragged.path, Json::object()), ErrorKind::parse, Catch::Contains("line 3") && Catch::Contains("ragged"));
   TempFile word("w.tsv", "a\tb\n1\t2\n3\tx7\n4\t5\n");
-  CHECK_THROWS_WITH(io::read_series(word.path, Json::object()),
+  CHECK_ERROR_KIND_WITH(io::read_series(word.path, Json::object()), ErrorKind::parse,
                     Catch::Contains("line 3, column 2 ('b')") && Catch::Contains("'x7' is not a number"));
   TempFile nan("n.tsv", "a\tb\n1\t2\n3\tnan\n4\t5\n");
-  CHECK_THROWS_WITH(io::read_series(nan.path, Json::object()), Catch::Contains("line 3") && Catch::Contains("not finite"));
+  CHECK_ERROR_KIND_WITH(io::read_series(nan.path, Json::object()), ErrorKind::data, Catch::Contains("line 3") && Catch::Contains("not finite"));
   TempFile flat("c.tsv", "a\tb\n1\t2\n3\t2\n4\t2\n");
-  CHECK_THROWS_WITH(io::read_series(flat.path, Json::object()), Catch::Contains("region 'b'") && Catch::Contains("constant"));
+  CHECK_ERROR_KIND_WITH(io::read_series(flat.path, Json::object()), ErrorKind::data, Catch::Contains("region 'b'") && Catch::Contains("constant"));
   TempFile shortf("s.tsv", "a\tb\n1\t2\n3\t1\n");
-  CHECK_THROWS_WITH(io::read_series(shortf.path, Json::object()), Catch::Contains("at least 3 time points"));
+  CHECK_ERROR_KIND_WITH(io::read_series(shortf.path, Json::object()), ErrorKind::data, Catch::Contains("at least 3 time points"));
   TempFile one("o.tsv", "a\n1\n2\n3\n");
-  CHECK_THROWS_WITH(io::read_series(one.path, Json::object()), Catch::Contains("at least 2 regions"));
+  CHECK_ERROR_KIND_WITH(io::read_series(one.path, Json::object()), ErrorKind::data, Catch::Contains("at least 2 regions"));
   TempFile trunc("t.npy", std::string("\x93NUMPY\x01\x00\x76\x00{'descr'", 17));
-  CHECK_THROWS_WITH(io::read_series(trunc.path, Json::object()), Catch::Contains("truncated NPY header"));
+  CHECK_ERROR_KIND_WITH(io::read_series(trunc.path, Json::object()), ErrorKind::parse, Catch::Contains("truncated NPY header"));
   TempFile ints("i.npy", npy_header("{'descr': '<i8', 'fortran_order': False, 'shape': (3, 2), }") + std::string(48, '\0'));
-  CHECK_THROWS_WITH(io::read_series(ints.path, Json::object()), Catch::Contains("unsupported NPY data type '<i8'"));
+  CHECK_ERROR_KIND_WITH(io::read_series(ints.path, Json::object()), ErrorKind::parse, Catch::Contains("unsupported NPY data type '<i8'"));
 }
 
 TEST_CASE("matrices round-trip through TSV, JSON and NPY", "[io]") {
@@ -110,16 +111,16 @@ TEST_CASE("matrices round-trip through TSV, JSON and NPY", "[io]") {
     if (fmt == "tsv") CHECK(back.names == m.names);
   }
   TempFile bad("bad.tsv", "1\t0.5\n0.4\t1\n");
-  CHECK_THROWS_WITH(io::read_matrix(bad.path, Json::object()), Catch::Contains("not symmetric"));
+  CHECK_ERROR_KIND_WITH(io::read_matrix(bad.path, Json::object()), ErrorKind::data, Catch::Contains("not symmetric"));
   TempFile rect("rect.tsv", "1\t0.5\t0\n0.5\t1\t0\n");
-  CHECK_THROWS_WITH(io::read_matrix(rect.path, Json::object()), Catch::Contains("not square"));
+  CHECK_ERROR_KIND_WITH(io::read_matrix(rect.path, Json::object()), ErrorKind::data, Catch::Contains("not square"));
 }
 
 TEST_CASE("options reject unknown keys and wrong types", "[base]") {
   Json j = Json::parse(R"({"format": "tsv", "headr": true})");
-  CHECK_THROWS_WITH(io::read_series("/nonexistent", j), Catch::Contains("unknown option \"headr\""));
-  CHECK_THROWS_WITH(parse_options("{not json", "test"), Catch::Contains("not valid JSON"));
-  CHECK_THROWS_WITH(parse_options("[1]", "test"), Catch::Contains("expected a JSON object"));
+  CHECK_ERROR_KIND_WITH(io::read_series("/nonexistent", j), ErrorKind::argument, Catch::Contains("unknown option \"headr\""));
+  CHECK_ERROR_KIND_WITH(parse_options("{not json", "test"), ErrorKind::argument, Catch::Contains("not valid JSON"));
+  CHECK_ERROR_KIND_WITH(parse_options("[1]", "test"), ErrorKind::argument, Catch::Contains("expected a JSON object"));
 }
 
 TEST_CASE("exact decimal text of 128-bit integers", "[base]") {
@@ -128,8 +129,8 @@ TEST_CASE("exact decimal text of 128-bit integers", "[base]") {
   CHECK(to_decimal(v) == "1267650600228229401496703205376");
   CHECK(to_decimal(-v) == "-1267650600228229401496703205376");
   CHECK(int128_from_decimal("1267650600228229401496703205376") == v);
-  CHECK_THROWS_AS(int128_from_decimal("999999999999999999999999999999999999999999"), Error);
-  CHECK_THROWS_AS(checked_mul(v, v, "test"), Error);
+  CHECK_ERROR_KIND(int128_from_decimal("999999999999999999999999999999999999999999"), ErrorKind::overflow);
+  CHECK_ERROR_KIND(checked_mul(v, v, "test"), ErrorKind::overflow);
 }
 
 #include "io/checksum.hpp"

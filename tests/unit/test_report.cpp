@@ -9,6 +9,7 @@
 
 #include "base/error.hpp"
 #include "report/report.hpp"
+#include "check_error.hpp"
 
 using namespace critplex;
 using namespace critplex::report;
@@ -150,11 +151,11 @@ TEST_CASE("a NaN breaks a line instead of drawing through it", "[report]") {
 TEST_CASE("shape errors name the group and the curve", "[report]") {
   auto in = small_input();
   in.groups[1].chi.mean.pop_back();
-  CHECK_THROWS_WITH(build_report(in), Catch::Contains("deprived <b>") && Catch::Contains("chi mean"));
+  CHECK_ERROR_KIND_WITH(build_report(in), ErrorKind::argument, Catch::Contains("deprived <b>") && Catch::Contains("chi mean"));
   in = small_input();
   in.groups[0].first_transition.push_back(0.2);
-  CHECK_THROWS_WITH(build_report(in), Catch::Contains("first transitions"));
-  CHECK_THROWS_AS(build_report(ReportInput{}), Error);
+  CHECK_ERROR_KIND_WITH(build_report(in), ErrorKind::argument, Catch::Contains("first transitions"));
+  CHECK_ERROR_KIND(build_report(ReportInput{}), ErrorKind::argument);
 }
 
 TEST_CASE("ticks are round numbers covering the range", "[report]") {

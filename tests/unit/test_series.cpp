@@ -12,6 +12,7 @@
 #include "series/clean.hpp"
 #include "series/fft.hpp"
 #include "series/filter.hpp"
+#include "check_error.hpp"
 
 using namespace critplex;
 using namespace critplex::series;
@@ -104,11 +105,11 @@ TEST_CASE("Analytic signal of a cosine is a complex exponential") {
 
 TEST_CASE("Band checks explain why a band is unusable") {
   FilterOptions f;
-  CHECK_THROWS_WITH(check_band(band(0.01, 0.5), f, 1.0, 500, "filter"), Catch::Contains("Nyquist"));
-  CHECK_THROWS_WITH(check_band(band(0.2, 0.1), f, 1.0, 500, "filter"), Catch::Contains("below the high edge"));
-  CHECK_THROWS_WITH(check_band(band(0.1, 0.101), f, 1.0, 500, "filter"), Catch::Contains("narrower"));
-  CHECK_THROWS_WITH(check_band(band(0.1, 0.2), f, NAN, 500, "filter"), Catch::Contains("sampling_interval"));
-  CHECK_THROWS_WITH(check_band(band(0.1, 0.2), f, 1.0, 20, "filter"), Catch::Contains("pads 27 frames"));
+  CHECK_ERROR_KIND_WITH(check_band(band(0.01, 0.5), f, 1.0, 500, "filter"), ErrorKind::argument, Catch::Contains("Nyquist"));
+  CHECK_ERROR_KIND_WITH(check_band(band(0.2, 0.1), f, 1.0, 500, "filter"), ErrorKind::argument, Catch::Contains("below the high edge"));
+  CHECK_ERROR_KIND_WITH(check_band(band(0.1, 0.101), f, 1.0, 500, "filter"), ErrorKind::argument, Catch::Contains("narrower"));
+  CHECK_ERROR_KIND_WITH(check_band(band(0.1, 0.2), f, NAN, 500, "filter"), ErrorKind::argument, Catch::Contains("sampling_interval"));
+  CHECK_ERROR_KIND_WITH(check_band(band(0.1, 0.2), f, 1.0, 20, "filter"), ErrorKind::argument, Catch::Contains("pads 27 frames"));
   CHECK_NOTHROW(check_band(band(0.01, 0.1), f, 2.0, 200, "filter"));
 }
 
@@ -130,7 +131,7 @@ TEST_CASE("Regression residuals are orthogonal to the design") {
   // Dependent confounds are an error, not a silent pseudo-inverse.
   Eigen::MatrixXd dup(T, 2);
   dup << c.col(0), c.col(0);
-  CHECK_THROWS_WITH(regress_out(y, dup, -1, {}), Catch::Contains("linearly dependent"));
+  CHECK_ERROR_KIND_WITH(regress_out(y, dup, -1, {}), ErrorKind::data, Catch::Contains("linearly dependent"));
 }
 
 TEST_CASE("Censoring by motion and mask, with a minimum of frames") {
@@ -140,8 +141,8 @@ TEST_CASE("Censoring by motion and mask, with a minimum of frames") {
   mask << 1, 1, 1, 0, 1, 1;
   const auto keep = frames_to_keep(6, motion, 0.5, mask, 3);
   CHECK(keep == std::vector<bool>{true, true, false, false, false, true});
-  CHECK_THROWS_WITH(frames_to_keep(6, motion, 0.5, mask, 4), Catch::Contains("keeps 3 of 6"));
+  CHECK_ERROR_KIND_WITH(frames_to_keep(6, motion, 0.5, mask, 4), ErrorKind::data, Catch::Contains("keeps 3 of 6"));
   Eigen::VectorXd bad(6);
   bad << 1, 1, 2, 1, 1, 1;
-  CHECK_THROWS_WITH(frames_to_keep(6, Eigen::VectorXd(), 0.5, bad, 3), Catch::Contains("entry 3"));
+  CHECK_ERROR_KIND_WITH(frames_to_keep(6, Eigen::VectorXd(), 0.5, bad, 3), ErrorKind::data, Catch::Contains("entry 3"));
 }

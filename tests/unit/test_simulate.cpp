@@ -12,6 +12,7 @@
 #include "simulate/cohort_model.hpp"
 #include "simulate/rewire.hpp"
 #include "simulate/surrogates.hpp"
+#include "check_error.hpp"
 
 using namespace critplex;
 using namespace critplex::simulate;
@@ -83,9 +84,9 @@ TEST_CASE("nested rewiring keeps every degree at every layer end, nests, and mix
 }
 
 TEST_CASE("rewiring rejects self-loops, duplicates and unknown nodes", "[simulate]") {
-  CHECK_THROWS_WITH(rewire(3, {{0, 1}, {1, 0}}, {}), Catch::Contains("edge 2") && Catch::Contains("twice"));
-  CHECK_THROWS_WITH(rewire(3, {{2, 2}}, {}), Catch::Contains("self-loop"));
-  CHECK_THROWS_WITH(rewire(3, {{0, 3}}, {}), Catch::Contains("node 3"));
+  CHECK_ERROR_KIND_WITH(rewire(3, {{0, 1}, {1, 0}}, {}), ErrorKind::argument, Catch::Contains("edge 2") && Catch::Contains("twice"));
+  CHECK_ERROR_KIND_WITH(rewire(3, {{2, 2}}, {}), ErrorKind::argument, Catch::Contains("self-loop"));
+  CHECK_ERROR_KIND_WITH(rewire(3, {{0, 3}}, {}), ErrorKind::argument, Catch::Contains("node 3"));
 }
 
 TEST_CASE("surrogates keep the mean and are seeded", "[simulate]") {
@@ -101,10 +102,10 @@ TEST_CASE("surrogates keep the mean and are seeded", "[simulate]") {
     for (int j = 0; j < 3; ++j) CHECK(a.values.col(j).mean() == Approx(x.col(j).mean()).margin(1e-10));
     CHECK((a.values - x).cwiseAbs().maxCoeff() > 1e-3);
   }
-  CHECK_THROWS_AS(surrogate_method_from_name("shuffle"), Error);
+  CHECK_ERROR_KIND(surrogate_method_from_name("shuffle"), ErrorKind::argument);
   Eigen::MatrixXd bad = x;
   bad(5, 1) = std::nan("");
-  CHECK_THROWS_WITH(make_surrogate(bad, {}), Catch::Contains("region 2") && Catch::Contains("time point 6"));
+  CHECK_ERROR_KIND_WITH(make_surrogate(bad, {}), ErrorKind::data, Catch::Contains("region 2") && Catch::Contains("time point 6"));
 }
 
 TEST_CASE("demo cohort: manifest, shapes, determinism and stronger coupling when deprived", "[simulate]") {
@@ -141,7 +142,7 @@ TEST_CASE("demo cohort: manifest, shapes, determinism and stronger coupling when
     deprived += between_modules(4 + k);
   }
   CHECK(deprived > rested + 0.4);
-  CHECK_THROWS_WITH(simulate_subject(m, plan, 8), Catch::Contains("outside"));
+  CHECK_ERROR_KIND_WITH(simulate_subject(m, plan, 8), ErrorKind::argument, Catch::Contains("outside"));
   m.groups[0].name = "well rested";
-  CHECK_THROWS_WITH(plan_cohort(m), Catch::Contains("letters and digits"));
+  CHECK_ERROR_KIND_WITH(plan_cohort(m), ErrorKind::argument, Catch::Contains("letters and digits"));
 }
