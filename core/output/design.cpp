@@ -1,0 +1,141 @@
+#include "output/design.hpp"
+
+#include <cmath>
+#include <limits>
+
+#include "base/error.hpp"
+#include "output/format.hpp"
+
+namespace critplex::output {
+
+namespace {
+
+std::string join(const std::vector<std::string>& items, const char* separator) {
+  std::string text;
+  for (const auto& item : items) text += (text.empty() ? "" : separator) + item;
+  return text;
+}
+
+Json test_json(const cohort::DesignTest& t) {
+  Json j{{"measure", t.measure}, {"tested", t.tested}, {"n", t.n}, {"missing", t.missing}};
+  if (!t.tested) {
+    j["note"] = t.note;
+    return j;
+  }
+  j["levels"] = t.levels;
+  j["level_means"] = numbers_or_null(t.level_means);
+  j["statistic"] = t.statistic_name;
+  j["value"] = number_or_null(t.statistic);
+  j["df1"] = t.df1;
+  j["df2"] = t.df2;
+  j["p_value"] = t.p_value;
+  j["p_adjusted"] = number_or_null(t.p_adjusted);
+  j["p_parametric"] = number_or_null(t.p_parametric);
+  j["exact"] = t.exact;
+  j["null_size"] = t.null_size;
+  j["estimate"] = number_or_null(t.estimate);
+  j["estimate_interval"] = {number_or_null(t.estimate_lower), number_or_null(t.estimate_upper)};
+  j["effect"] = t.effect_name;
+  j["effect_value"] = number_or_null(t.effect);
+  j["effect_interval"] = {number_or_null(t.effect_lower), number_or_null(t.effect_upper)};
+  j["spearman_rho"] = number_or_null(t.spearman);
+  j["spearman_p"] = number_or_null(t.spearman_p);
+  return j;
+}
+
+std::vector<double> numbers_of(const Json& list, const std::string& where, const std::string& name, std::size_t rows) {
+  if (!list.is_array()) fail(ErrorKind::argument, where + ": \"" + name + "\" must be a list of numbers");
+  if (list.size() != rows)
+    fail(ErrorKind::argument, where + ": \"" + name + "\" has " + std::to_string(list.size()) + " values for " +
+                                  std::to_string(rows) + " subjects");
+  std::vector<double> v;
+  for (std::size_t i = 0; i < list.size(); ++i) {
+    if (list[i].is_null()) v.push_back(std::numeric_limits<double>::quiet_NaN());
+    else if (list[i].is_number()) v.push_back(list[i].get<double>());
+    else fail(ErrorKind::argument, where + ": \"" + name + "\"[" + std::to_string(i) + "] is not a number or null");
+  }
+  return v;
+}
+
+std::vector<std::string> texts_of(const Json& data, const std::string& where, const std::string& name, std::size_t rows) {
+  if (!data.contains(name)) return std::vector<std::string>(rows);
+  const Json& list = data.at(name);
+  if (!list.is_array() || list.size() != rows)
+    fail(ErrorKind::argument, where + ": \"" + name + "\" must be a list of " + std::to_string(rows) + " texts");
+  std::vector<std::string> v;
+  for (const auto& item : list) {
+    if (!item.is_string()) fail(ErrorKind::argument, where + ": \"" + name + "\" holds a value that is not text");
+    v.push_back(item.get<std::string>());
+  }
+  return v;
+}
+
+}  // namespace
+
+Json design_spec_json(const cohort::DesignSpec& s) {
+  return {{"design", cohort::design_name(s.kind)}, {"within", s.within},       {"between", s.between},
+          {"levels", s.levels},                    {"score", s.score},         {"covariates", s.covariates},
+          {"blocks", s.blocks},                    {"permutations", s.permutations}, {"seed", s.seed},
+          {"confidence", s.confidence}};
+}
+
+Json design_result_json(const cohort::DesignResult& r) {
+  Json doc{{"kind", "critplex design tests"}, {"format_version", 1}, {"design", design_spec_json(r.spec)},
+           {"levels", r.levels}};
+  Json tests = Json::array();
+  for (const auto& t : r.tests) tests.push_back(test_json(t));
+  doc["tests"] = std::move(tests);
+  if (r.spec.record_permutations) doc["permutations_used"] = r.recorded;
+  return doc;
+}
+
+std::string design_tests_tsv(const cohort::DesignResult& r) {
+  Tsv table({"measure", "design", "levels", "n", "missing", "statistic", "value", "df1", "df2", "p_value", "p_adjusted",
+             "p_parametric", "exact", "null_size", "estimate", "estimate_lower", "estimate_upper", "effect",
+             "effect_value", "effect_lower", "effect_upper", "spearman_rho", "spearman_p", "note"});
+  const double none = std::numeric_limits<double>::quiet_NaN();
+  for (const auto& t : r.tests) {
+    const std::string levels = t.levels.empty() ? missing : join(t.levels, ",");
+    if (!t.tested) {
+      table.add({t.measure, cohort::design_name(r.spec.kind), levels, cell(t.n), cell(t.missing), missing, cell(none),
+                 cell(none), cell(none), cell(none), cell(none), cell(none), missing, missing, cell(none), cell(none),
+                 cell(none), missing, cell(none), cell(none), cell(none), cell(none), cell(none), t.note});
+      continue;
+    }
+    table.add({t.measure, cohort::design_name(r.spec.kind), levels, cell(t.n), cell(t.missing), t.statistic_name,
+               cell(t.statistic), cell(t.df1), cell(t.df2), cell(t.p_value), cell(t.p_adjusted), cell(t.p_parametric),
+               cell(t.exact), cell(static_cast<std::size_t>(t.null_size)), cell(t.estimate), cell(t.estimate_lower),
+               cell(t.estimate_upper), t.effect_name.empty() ? missing : t.effect_name, cell(t.effect),
+               cell(t.effect_lower), cell(t.effect_upper), cell(t.spearman), cell(t.spearman_p), missing});
+  }
+  return table.text();
+}
+
+cohort::DesignData design_data_from_json(const Json& data, const std::string& where) {
+  if (!data.is_object() || !data.contains("subject") || !data["subject"].is_array())
+    fail(ErrorKind::argument, where + ": an object with a \"subject\" list is required");
+  cohort::DesignData d;
+  const std::size_t rows = data["subject"].size();
+  d.subject = texts_of(data, where, "subject", rows);
+  d.session = texts_of(data, where, "session", rows);
+  d.group = texts_of(data, where, "group", rows);
+  for (const auto& [key, value] : data.items())
+    if (key != "subject" && key != "session" && key != "group" && key != "columns" && key != "measures")
+      fail(ErrorKind::argument, where + ": unknown key \"" + key + "\"");
+  if (data.contains("columns")) {
+    if (!data["columns"].is_object()) fail(ErrorKind::argument, where + ": \"columns\" must be an object of lists");
+    for (const auto& [name, list] : data["columns"].items())
+      d.columns[name] = numbers_of(list, where, "columns." + name, rows);
+  }
+  if (!data.contains("measures") || !data["measures"].is_array() || data["measures"].empty())
+    fail(ErrorKind::argument, where + ": \"measures\" must be a non-empty list of {\"name\", \"values\"}");
+  for (const auto& m : data["measures"]) {
+    if (!m.is_object() || !m.contains("name") || !m["name"].is_string() || !m.contains("values"))
+      fail(ErrorKind::argument, where + ": every measure needs \"name\" and \"values\"");
+    d.measure_names.push_back(m["name"].get<std::string>());
+    d.measures.push_back(numbers_of(m["values"], where, "measures." + d.measure_names.back(), rows));
+  }
+  return d;
+}
+
+}  // namespace critplex::output
