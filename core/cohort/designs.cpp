@@ -37,7 +37,8 @@ const OptionSection& design_option_section() {
        {.key = "covariates", .type = "strings",
         .meaning = "nuisance columns, handled by Freedman-Lane (reduced-model residuals are permuted)"},
        {.key = "blocks", .type = "string", .default_value = "", .default_note = "one block",
-        .meaning = "numeric column of exchangeability blocks (e.g. site): rows are permuted only within their block"},
+        .meaning = "column of exchangeability blocks (e.g. site, or subject for repeated sessions): rows are permuted "
+                   "only within their block; sign flips (paired) are not restricted"},
        {.key = "permutations", .type = "integer", .default_value = 9999, .min = 1,
         .meaning = "enumerate every rearrangement when there are at most this many, else this many random ones"},
        {.key = "seed", .type = "integer", .default_value = 1, .min = 0, .meaning = "seed of the random rearrangements"},
@@ -173,23 +174,38 @@ Eigen::MatrixXd covariate_matrix(const DesignData& d, const DesignSpec& s, const
   return m;
 }
 
-bool row_complete(const DesignData& d, const DesignSpec& s, std::size_t row) {
+// Block codes per row: the index of the row's label among the labels (NaN: missing).
+std::vector<double> block_codes(const DesignData& d, const DesignSpec& s) {
+  if (s.blocks.empty()) return {};
+  std::vector<std::string> seen;
+  std::vector<double> codes;
+  for (const auto& label : label_column(d, s.blocks, "blocks")) {
+    if (label.empty()) {
+      codes.push_back(nan_value);
+      continue;
+    }
+    auto it = std::find(seen.begin(), seen.end(), label);
+    if (it == seen.end()) it = seen.insert(seen.end(), label);
+    codes.push_back(static_cast<double>(it - seen.begin()));
+  }
+  return codes;
+}
+
+bool row_complete(const DesignData& d, const DesignSpec& s, const std::vector<double>& blocks, std::size_t row) {
   for (const auto& c : s.covariates)
     if (!std::isfinite(numeric_column(d, c, "covariates")[row])) return false;
-  if (!s.blocks.empty() && !std::isfinite(numeric_column(d, s.blocks, "blocks")[row])) return false;
+  if (!blocks.empty() && !std::isfinite(blocks[row])) return false;
   if (s.kind == DesignKind::regression && !std::isfinite(numeric_column(d, s.score, "score")[row])) return false;
   return true;
 }
 
-LinearTestOptions engine_options(const DesignSpec& s, const DesignData& d, const std::vector<std::size_t>& rows,
-                                 std::vector<std::vector<long long>>* record) {
+LinearTestOptions engine_options(const DesignSpec& s, const std::vector<double>& blocks,
+                                 const std::vector<std::size_t>& rows, std::vector<std::vector<long long>>* record) {
   LinearTestOptions o;
   o.permutations = s.permutations;
   o.seed = s.seed;
-  if (!s.blocks.empty() && s.kind != DesignKind::paired) {
-    const auto& column = numeric_column(d, s.blocks, "blocks");
-    for (std::size_t r : rows) o.blocks.push_back(column[r]);
-  }
+  if (!blocks.empty() && s.kind != DesignKind::paired)
+    for (std::size_t r : rows) o.blocks.push_back(blocks[r]);
   if (record) {
     const bool flips = s.kind == DesignKind::paired;
     o.on_rearrangement = [record, rows, flips](const std::vector<long long>& perm) {
@@ -221,8 +237,8 @@ void fill_common(DesignTest& t, const LinearTestResult& r) {
 }
 
 // paired: one difference per subject, sign-flipped; covariates from the first level's row.
-DesignTest paired_test(const DesignData& d, const DesignSpec& s, std::size_t m, const std::vector<std::string>& levels,
-                       std::vector<std::vector<long long>>* record) {
+DesignTest paired_test(const DesignData& d, const DesignSpec& s, const std::vector<double>& blocks, std::size_t m,
+                       const std::vector<std::string>& levels, std::vector<std::vector<long long>>* record) {
   DesignTest t;
   t.measure = d.measure_names[m];
   t.statistic_name = "t";
@@ -250,7 +266,7 @@ DesignTest paired_test(const DesignData& d, const DesignSpec& s, std::size_t m, 
   }
   for (const auto& [a, b] : pairs) {
     const bool complete = a >= 0 && b >= 0 && std::isfinite(y[static_cast<std::size_t>(a)]) &&
-                          std::isfinite(y[static_cast<std::size_t>(b)]) && row_complete(d, s, static_cast<std::size_t>(a));
+                          std::isfinite(y[static_cast<std::size_t>(b)]) && row_complete(d, s, blocks, static_cast<std::size_t>(a));
     if (!complete) {
       ++t.missing;
       continue;
@@ -273,7 +289,7 @@ DesignTest paired_test(const DesignData& d, const DesignSpec& s, std::size_t m, 
   t.level_means = {mean_first, mean_second};
   Eigen::MatrixXd z = covariate_matrix(d, s, first_rows);
   z.rowwise() -= z.colwise().mean();  // centred: the intercept is the mean difference at the covariates' mean
-  LinearTestOptions o = engine_options(s, d, first_rows, record);
+  LinearTestOptions o = engine_options(s, blocks, first_rows, record);
   o.sign_flip = true;
   const LinearTestResult r = freedman_lane(diff, Eigen::MatrixXd::Ones(diff.size(), 1), z, o);
   fill_common(t, r);
@@ -291,8 +307,8 @@ DesignTest paired_test(const DesignData& d, const DesignSpec& s, std::size_t m, 
 
 // two_groups and groups: indicators of the later levels against the first, intercept and
 // covariates as nuisance.
-DesignTest groups_test(const DesignData& d, const DesignSpec& s, std::size_t m, const std::vector<std::string>& levels,
-                       std::vector<std::vector<long long>>* record) {
+DesignTest groups_test(const DesignData& d, const DesignSpec& s, const std::vector<double>& blocks, std::size_t m,
+                       const std::vector<std::string>& levels, std::vector<std::vector<long long>>* record) {
   DesignTest t;
   t.measure = d.measure_names[m];
   t.levels = levels;
@@ -304,7 +320,7 @@ DesignTest groups_test(const DesignData& d, const DesignSpec& s, std::size_t m, 
   for (std::size_t i = 0; i < y.size(); ++i) {
     const auto it = std::find(levels.begin(), levels.end(), between[i]);
     if (it == levels.end()) continue;
-    if (!std::isfinite(y[i]) || !row_complete(d, s, i)) {
+    if (!std::isfinite(y[i]) || !row_complete(d, s, blocks, i)) {
       ++t.missing;
       continue;
     }
@@ -328,7 +344,7 @@ DesignTest groups_test(const DesignData& d, const DesignSpec& s, std::size_t m, 
   z << Eigen::VectorXd::Ones(n), covariate_matrix(d, s, rows);
   Eigen::VectorXd yv(n);
   for (Eigen::Index i = 0; i < n; ++i) yv(i) = y[rows[static_cast<std::size_t>(i)]];
-  const LinearTestResult r = freedman_lane(yv, x, z, engine_options(s, d, rows, record));
+  const LinearTestResult r = freedman_lane(yv, x, z, engine_options(s, blocks, rows, record));
   fill_common(t, r);
   if (levels.size() == 2) {
     fill_estimate(t, r, s.confidence);
@@ -347,7 +363,7 @@ DesignTest groups_test(const DesignData& d, const DesignSpec& s, std::size_t m, 
 }
 
 // regression: the slope of the score, intercept and covariates as nuisance.
-DesignTest regression_test(const DesignData& d, const DesignSpec& s, std::size_t m,
+DesignTest regression_test(const DesignData& d, const DesignSpec& s, const std::vector<double>& blocks, std::size_t m,
                            std::vector<std::vector<long long>>* record) {
   DesignTest t;
   t.measure = d.measure_names[m];
@@ -356,7 +372,7 @@ DesignTest regression_test(const DesignData& d, const DesignSpec& s, std::size_t
   const auto& y = d.measures[m];
   std::vector<std::size_t> rows;
   for (std::size_t i = 0; i < y.size(); ++i) {
-    if (!std::isfinite(y[i]) || !row_complete(d, s, i)) {
+    if (!std::isfinite(y[i]) || !row_complete(d, s, blocks, i)) {
       ++t.missing;
       continue;
     }
@@ -375,7 +391,7 @@ DesignTest regression_test(const DesignData& d, const DesignSpec& s, std::size_t
   }
   Eigen::MatrixXd z(n, static_cast<Eigen::Index>(1 + s.covariates.size()));
   z << Eigen::VectorXd::Ones(n), covariate_matrix(d, s, rows);
-  LinearTestOptions o = engine_options(s, d, rows, record);
+  LinearTestOptions o = engine_options(s, blocks, rows, record);
   if (s.covariates.empty()) {
     const Eigen::VectorXd score_ranks = ranks(x);
     o.companion = [score_ranks](const Eigen::VectorXd& v) { return pearson(score_ranks, ranks(v)); };
@@ -413,7 +429,7 @@ DesignResult run_design(const DesignData& d, const DesignSpec& s) {
                                     std::to_string(d.measures[m].size()) + " values for " + std::to_string(rows) + " rows");
   // Every named column must exist before any test runs.
   for (const auto& c : s.covariates) numeric_column(d, c, "covariates");
-  if (!s.blocks.empty()) numeric_column(d, s.blocks, "blocks");
+  const std::vector<double> blocks = block_codes(d, s);
   if (s.kind == DesignKind::regression) numeric_column(d, s.score, "score");
   DesignResult result;
   result.spec = s;
@@ -432,9 +448,9 @@ DesignResult run_design(const DesignData& d, const DesignSpec& s) {
   }
   for (std::size_t m = 0; m < d.measures.size(); ++m) {
     auto* record = s.record_permutations && result.recorded.empty() ? &result.recorded : nullptr;
-    DesignTest t = s.kind == DesignKind::paired       ? paired_test(d, s, m, result.levels, record)
-                   : s.kind == DesignKind::regression ? regression_test(d, s, m, record)
-                                                      : groups_test(d, s, m, result.levels, record);
+    DesignTest t = s.kind == DesignKind::paired       ? paired_test(d, s, blocks, m, result.levels, record)
+                   : s.kind == DesignKind::regression ? regression_test(d, s, blocks, m, record)
+                                                      : groups_test(d, s, blocks, m, result.levels, record);
     result.tests.push_back(std::move(t));
   }
   std::vector<double> p;

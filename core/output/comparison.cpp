@@ -4,6 +4,7 @@
 #include <limits>
 
 #include "base/error.hpp"
+#include "output/design.hpp"
 #include "output/format.hpp"
 #include "output/statistics.hpp"
 
@@ -14,9 +15,11 @@ namespace {
 const double nan_value = std::numeric_limits<double>::quiet_NaN();
 
 Json options_json(const pipeline::CompareOptions& o) {
-  return {{"band", o.band},         {"groups", o.groups},         {"statistic", o.statistic},
-          {"exact_limit", o.exact_limit}, {"resamples", o.resamples}, {"seed", o.seed},
-          {"confidence", o.confidence}, {"covariates", o.covariates}, {"cluster_curves", o.cluster_curves}};
+  Json j{{"band", o.band},         {"groups", o.groups},         {"statistic", o.statistic},
+         {"exact_limit", o.exact_limit}, {"resamples", o.resamples}, {"seed", o.seed},
+         {"confidence", o.confidence}, {"covariates", o.covariates}, {"cluster_curves", o.cluster_curves}};
+  if (o.design) j["design"] = design_spec_json(*o.design);
+  return j;
 }
 
 Json test_json(const pipeline::SummaryTest& t) {
@@ -98,6 +101,7 @@ Json comparison_json(const pipeline::Comparison& c) {
                                                 {"chi", numbers_or_null(c.null_baseline->chi)}}
                                          : Json(nullptr);
   doc["missing"] = c.missing;
+  if (c.design) doc["design_tests"] = design_result_json(*c.design);
   doc["caution"] = "Research software, not a medical device: not for clinical decisions.";
   return doc;
 }

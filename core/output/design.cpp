@@ -138,4 +138,31 @@ cohort::DesignData design_data_from_json(const Json& data, const std::string& wh
   return d;
 }
 
+cohort::DesignData design_data(const std::vector<SubjectRecord>& subjects, const std::vector<std::string>& summaries) {
+  cohort::DesignData d;
+  for (const auto& s : subjects)
+    for (const auto& [name, value] : s.covariates) d.columns[name];
+  for (auto& [name, values] : d.columns)
+    for (const auto& s : subjects) {
+      const auto it = s.covariates.find(name);
+      values.push_back(it == s.covariates.end() ? std::numeric_limits<double>::quiet_NaN() : it->second);
+    }
+  for (const auto& s : subjects) {
+    d.subject.push_back(s.id);
+    d.session.push_back(s.session);
+    d.group.push_back(s.group);
+  }
+  for (const auto& name : summaries) {
+    d.measure_names.push_back(name);
+    std::vector<double> values;
+    for (const auto& s : subjects) values.push_back(s.summary(name));
+    d.measures.push_back(std::move(values));
+  }
+  return d;
+}
+
+std::vector<NamedText> design_files(const cohort::DesignResult& result) {
+  return {{"design_tests.tsv", design_tests_tsv(result)}, {"design_tests.json", design_result_json(result).dump(1) + "\n"}};
+}
+
 }  // namespace critplex::output

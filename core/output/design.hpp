@@ -3,9 +3,13 @@
 #pragma once
 
 #include <string>
+#include <utility>
+#include <vector>
 
 #include "base/options.hpp"
 #include "cohort/designs.hpp"
+#include "output/subject.hpp"
+#include "output/subject_record.hpp"
 
 namespace critplex::output {
 
@@ -22,5 +26,12 @@ std::string design_tests_tsv(const cohort::DesignResult& result);
 //  "measures": [{"name", "values": [...]}]} (session, group, columns optional; null marks a
 // missing value). `where` names the argument in messages.
 cohort::DesignData design_data_from_json(const Json& data, const std::string& where);
+
+// The rows of a design from finished subjects: subject, session, group, every covariate
+// column (NaN where a subject lacks it) and the named summaries as measures.
+cohort::DesignData design_data(const std::vector<SubjectRecord>& subjects, const std::vector<std::string>& summaries);
+
+// design_tests.tsv and design_tests.json, as texts (the caller writes them).
+std::vector<NamedText> design_files(const cohort::DesignResult& result);
 
 }  // namespace critplex::output

@@ -12,6 +12,7 @@
 #include <vector>
 
 #include "base/option_schema.hpp"
+#include "cohort/designs.hpp"
 #include "cohort/statistics.hpp"
 #include "output/subject_record.hpp"
 
@@ -25,6 +26,7 @@ struct CompareOptions {
   double confidence = 0.95;
   std::vector<std::string> covariates;     // regressed out of every summary before testing
   std::vector<std::string> cluster_curves{"chi"};
+  std::optional<cohort::DesignSpec> design;  // the "design" section: tests written to design_tests.tsv/json
 };
 const OptionSection& compare_option_section();
 CompareOptions parse_compare_options(const Json& options);
@@ -67,6 +69,7 @@ struct Comparison {
   std::vector<ClusterTest> clusters;
   std::optional<NullBaseline> null_baseline;
   std::vector<std::string> missing;  // listed subjects without a finished result
+  std::optional<cohort::DesignResult> design;  // when the options carry a design (core/cohort/designs.hpp)
 };
 
 // The comparison of subjects already read.
