@@ -448,9 +448,20 @@ DesignResult run_design(const DesignData& d, const DesignSpec& s) {
   }
   for (std::size_t m = 0; m < d.measures.size(); ++m) {
     auto* record = s.record_permutations && result.recorded.empty() ? &result.recorded : nullptr;
-    DesignTest t = s.kind == DesignKind::paired       ? paired_test(d, s, blocks, m, result.levels, record)
-                   : s.kind == DesignKind::regression ? regression_test(d, s, blocks, m, record)
-                                                      : groups_test(d, s, blocks, m, result.levels, record);
+    DesignTest t;
+    try {
+      t = s.kind == DesignKind::paired       ? paired_test(d, s, blocks, m, result.levels, record)
+          : s.kind == DesignKind::regression ? regression_test(d, s, blocks, m, record)
+                                             : groups_test(d, s, blocks, m, result.levels, record);
+    } catch (const Error& e) {
+      // A measure whose usable rows cannot carry the model (e.g. the score is constant
+      // among them) is reported as not tested; the other measures still are.
+      if (e.kind() != ErrorKind::data) throw;
+      t = DesignTest{};
+      t.measure = d.measure_names[m];
+      t.note = e.what();
+      if (record) record->clear();
+    }
     result.tests.push_back(std::move(t));
   }
   std::vector<double> p;
