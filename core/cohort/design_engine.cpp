@@ -53,7 +53,46 @@ struct Fit {
     const Eigen::VectorXd b = beta.head(interest);
     return b.dot(interest_inverse * b) / static_cast<double>(interest) / sigma2;
   }
+
+  // The statistic of every column of y (observations x points) at once.
+  Eigen::RowVectorXd statistics(const Eigen::MatrixXd& y) const {
+    const Eigen::MatrixXd beta = pseudo_inverse * y;
+    const Eigen::RowVectorXd sigma2 = (y - design * beta).colwise().squaredNorm() / df2;
+    if (interest == 1) return beta.row(0).array() / (sigma2.array() * covariance(0, 0)).sqrt();
+    Eigen::RowVectorXd out(y.cols());
+    for (Eigen::Index j = 0; j < y.cols(); ++j) {
+      const Eigen::VectorXd b = beta.col(j).head(interest);
+      out(j) = b.dot(interest_inverse * b) / static_cast<double>(interest) / sigma2(j);
+    }
+    return out;
+  }
 };
+
+// Runs of points beyond the threshold with one sign (t), or above it (F); mass = sum.
+std::vector<Cluster> clusters_of(const Eigen::RowVectorXd& s, double threshold, bool signed_statistic) {
+  std::vector<Cluster> out;
+  auto sign_of = [&](double v) { return v > threshold ? 1 : (signed_statistic && v < -threshold ? -1 : 0); };
+  for (Eigen::Index p = 0; p < s.size();) {
+    const int sign = sign_of(s(p));
+    if (sign == 0) {
+      ++p;
+      continue;
+    }
+    Cluster c;
+    c.first = static_cast<std::size_t>(p);
+    c.sign = sign;
+    while (p < s.size() && sign_of(s(p)) == sign) c.mass += s(p++);
+    c.last = static_cast<std::size_t>(p - 1);
+    out.push_back(c);
+  }
+  return out;
+}
+
+double largest_mass(const std::vector<Cluster>& clusters) {
+  double m = 0.0;
+  for (const auto& c : clusters) m = std::max(m, std::fabs(c.mass));
+  return m;
+}
 
 // n! capped: returns limit + 1 once the product passes limit.
 std::uint64_t capped_product_of_factorials(const std::vector<std::vector<std::size_t>>& blocks, std::uint64_t limit) {
@@ -199,6 +238,52 @@ LinearTestResult freedman_lane(const Eigen::VectorXd& y, const Eigen::MatrixXd& 
   if (with_companion)
     r.companion_p = std::min(1.0, 2.0 * std::min(permutation_p(count, companion_at_least, exact),
                                                  permutation_p(count, companion_at_most, exact)));
+  return r;
+}
+
+double f_quantile(double probability, double df1, double df2) {
+  double lo = 0.0, hi = 1.0;
+  while (1.0 - f_upper_tail(hi, df1, df2) < probability) hi *= 2.0;
+  for (int i = 0; i < 200 && hi - lo > 1e-14 * hi; ++i) {
+    const double mid = 0.5 * (lo + hi);
+    (1.0 - f_upper_tail(mid, df1, df2) < probability ? lo : hi) = mid;
+  }
+  return 0.5 * (lo + hi);
+}
+
+CurveTestResult freedman_lane_curves(const Eigen::MatrixXd& y, const Eigen::MatrixXd& x, const Eigen::MatrixXd& z,
+                                     const LinearTestOptions& options, double threshold) {
+  const auto n = static_cast<std::size_t>(y.rows());
+  if (x.rows() != y.rows() || z.rows() != y.rows() || (!options.blocks.empty() && options.blocks.size() != n))
+    fail(ErrorKind::internal, "curve test: the model's rows do not match the data");
+  if (!y.allFinite()) fail(ErrorKind::data, "curve test: values must be finite");
+  const Fit fit(x, z);
+  const bool signed_statistic = x.cols() == 1;
+  CurveTestResult r;
+  r.threshold = !std::isnan(threshold) ? threshold
+                : signed_statistic     ? student_t_quantile(0.975, fit.df2)
+                                       : f_quantile(0.95, static_cast<double>(x.cols()), fit.df2);
+  const Eigen::RowVectorXd observed = fit.statistics(y);
+  r.statistic.assign(observed.data(), observed.data() + observed.size());
+  r.clusters = clusters_of(observed, r.threshold, signed_statistic);
+  Eigen::MatrixXd fitted = Eigen::MatrixXd::Zero(y.rows(), y.cols());
+  if (z.cols() > 0) fitted = z * z.colPivHouseholderQr().solve(y);
+  const Eigen::MatrixXd residuals = y - fitted;
+  std::vector<std::uint64_t> at_least(r.clusters.size(), 0);
+  Eigen::MatrixXd rearranged(y.rows(), y.cols());
+  const auto [exact, count] = for_each_rearrangement(n, options, [&](const std::vector<long long>& perm) {
+    for (std::size_t i = 0; i < n; ++i)
+      rearranged.row(static_cast<Eigen::Index>(i)) =
+          fitted.row(static_cast<Eigen::Index>(i)) +
+          (options.sign_flip ? static_cast<double>(perm[i]) * residuals.row(static_cast<Eigen::Index>(i))
+                             : Eigen::RowVectorXd(residuals.row(static_cast<Eigen::Index>(perm[i]))));
+    const double m = largest_mass(clusters_of(fit.statistics(rearranged), r.threshold, signed_statistic));
+    for (std::size_t c = 0; c < r.clusters.size(); ++c)
+      if (m >= std::fabs(r.clusters[c].mass) - tolerance(r.clusters[c].mass)) ++at_least[c];
+  });
+  r.exact = exact;
+  r.null_size = count;
+  for (std::size_t c = 0; c < r.clusters.size(); ++c) r.clusters[c].p_value = permutation_p(count, at_least[c], exact);
   return r;
 }
 

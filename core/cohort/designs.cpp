@@ -44,6 +44,8 @@ const OptionSection& design_option_section() {
        {.key = "seed", .type = "integer", .default_value = 1, .min = 0, .meaning = "seed of the random rearrangements"},
        {.key = "confidence", .type = "number", .default_value = 0.95, .min = 0, .max = 1, .min_open = true,
         .max_open = true, .meaning = "level of the intervals of estimates and effect sizes"},
+       {.key = "curves", .type = "strings", .default_note = "compare: its cluster_curves; else none",
+        .meaning = "curves (chi, betti_1, ...) given a cluster-mass test along the density axis with the design"},
        {.key = "record_permutations", .type = "boolean", .default_value = false,
         .meaning = "test hook: return the rearrangements used for the first measure"}}};
   return section;
@@ -66,6 +68,7 @@ DesignSpec parse_design(const Json& design, const std::string& where, const std:
   s.seed = static_cast<std::uint64_t>(r.integer("seed"));
   s.confidence = r.number("confidence");
   s.record_permutations = r.boolean("record_permutations");
+  s.curves = r.texts("curves");
   r.finish();
   if (!has_kind) r.bad("design", "one of two_groups, paired, groups, regression");
   if (s.kind == DesignKind::regression && s.score.empty())
@@ -414,6 +417,102 @@ DesignTest regression_test(const DesignData& d, const DesignSpec& s, const std::
   return t;
 }
 
+// The model of a curve test: the units (rows; paired: first-level rows with their
+// second-level partners), the effect of interest and the nuisance, as the summary tests.
+struct CurveModel {
+  std::vector<std::size_t> rows, partners;
+  Eigen::MatrixXd x, z;
+};
+
+CurveModel curve_model(const DesignData& d, const DesignSpec& s, const std::vector<double>& blocks,
+                       const std::vector<std::string>& levels, const std::vector<std::vector<double>>& curve) {
+  const std::size_t points = d.density.size();
+  auto has_curve = [&](std::size_t row) { return curve[row].size() == points && row_complete(d, s, blocks, row); };
+  CurveModel m;
+  if (s.kind == DesignKind::paired) {
+    const auto within = label_column(d, s.within, "within");
+    for (std::size_t i = 0; i < d.subject.size(); ++i) {
+      if (within[i] != levels[0] || !has_curve(i)) continue;
+      for (std::size_t j = 0; j < d.subject.size(); ++j)
+        if (d.subject[j] == d.subject[i] && within[j] == levels[1] && curve[j].size() == points) {
+          m.rows.push_back(i);
+          m.partners.push_back(j);
+          break;
+        }
+    }
+    m.x = Eigen::MatrixXd::Ones(static_cast<Eigen::Index>(m.rows.size()), 1);
+    m.z = covariate_matrix(d, s, m.rows);
+    m.z.rowwise() -= m.z.colwise().mean();
+    return m;
+  }
+  std::vector<std::size_t> level_of;
+  const auto between = s.kind == DesignKind::regression ? std::vector<std::string>{} : label_column(d, s.between, "between");
+  for (std::size_t i = 0; i < d.subject.size(); ++i) {
+    if (!has_curve(i)) continue;
+    if (s.kind != DesignKind::regression) {
+      const auto it = std::find(levels.begin(), levels.end(), between[i]);
+      if (it == levels.end()) continue;
+      level_of.push_back(static_cast<std::size_t>(it - levels.begin()));
+    }
+    m.rows.push_back(i);
+  }
+  const auto n = static_cast<Eigen::Index>(m.rows.size());
+  if (s.kind == DesignKind::regression) {
+    m.x.resize(n, 1);
+    for (Eigen::Index i = 0; i < n; ++i) m.x(i, 0) = numeric_column(d, s.score, "score")[m.rows[static_cast<std::size_t>(i)]];
+  } else {
+    m.x = Eigen::MatrixXd::Zero(n, static_cast<Eigen::Index>(levels.size() - 1));
+    for (Eigen::Index i = 0; i < n; ++i)
+      if (level_of[static_cast<std::size_t>(i)] > 0) m.x(i, static_cast<Eigen::Index>(level_of[static_cast<std::size_t>(i)] - 1)) = 1.0;
+  }
+  m.z.resize(n, static_cast<Eigen::Index>(1 + s.covariates.size()));
+  m.z << Eigen::VectorXd::Ones(n), covariate_matrix(d, s, m.rows);
+  return m;
+}
+
+DesignCurveTest curve_test(const DesignData& d, const DesignSpec& s, const std::vector<double>& blocks,
+                           const std::vector<std::string>& levels, const std::string& name) {
+  DesignCurveTest t;
+  t.curve = name;
+  const auto it = d.curves.find(name);
+  if (it == d.curves.end()) {
+    t.note = "no subject has the curve \"" + name + "\"";
+    return t;
+  }
+  const CurveModel m = curve_model(d, s, blocks, levels, it->second);
+  t.n = m.rows.size();
+  t.statistic_name = m.x.cols() == 1 ? "t" : "F";
+  // Values per unit (paired: second minus first level), then the points every unit has
+  // and where the values vary.
+  const std::size_t points = d.density.size();
+  Eigen::MatrixXd y(static_cast<Eigen::Index>(t.n), static_cast<Eigen::Index>(points));
+  for (std::size_t i = 0; i < t.n; ++i)
+    for (std::size_t p = 0; p < points; ++p)
+      y(static_cast<Eigen::Index>(i), static_cast<Eigen::Index>(p)) =
+          m.partners.empty() ? it->second[m.rows[i]][p] : it->second[m.partners[i]][p] - it->second[m.rows[i]][p];
+  std::vector<Eigen::Index> keep;
+  for (Eigen::Index p = 0; p < y.cols() && t.n > 0; ++p)
+    if (y.col(p).allFinite() && y.col(p).maxCoeff() > y.col(p).minCoeff()) keep.push_back(p);
+  if (t.n < 3 + s.covariates.size() || keep.size() < 2) {
+    t.note = "fewer than 2 grid points where the curve varies, or too few subjects: not tested";
+    return t;
+  }
+  Eigen::MatrixXd kept(y.rows(), static_cast<Eigen::Index>(keep.size()));
+  for (std::size_t k = 0; k < keep.size(); ++k) {
+    kept.col(static_cast<Eigen::Index>(k)) = y.col(keep[k]);
+    t.density.push_back(d.density[static_cast<std::size_t>(keep[k])]);
+  }
+  LinearTestOptions o = engine_options(s, blocks, m.rows, nullptr);
+  o.sign_flip = s.kind == DesignKind::paired;
+  try {
+    t.result = freedman_lane_curves(kept, m.x, m.z, o);
+  } catch (const Error& e) {
+    if (e.kind() != ErrorKind::data) throw;
+    t.note = e.what();
+  }
+  return t;
+}
+
 }  // namespace
 
 DesignResult run_design(const DesignData& d, const DesignSpec& s) {
@@ -470,6 +569,7 @@ DesignResult run_design(const DesignData& d, const DesignSpec& s) {
   const auto adjusted = benjamini_hochberg(p);
   for (std::size_t i = 0, k = 0; i < result.tests.size(); ++i)
     if (result.tests[i].tested) result.tests[i].p_adjusted = adjusted[k++];
+  for (const auto& curve : s.curves) result.curve_tests.push_back(curve_test(d, s, blocks, result.levels, curve));
   return result;
 }
 

@@ -28,10 +28,12 @@
 #include <functional>
 #include <limits>
 #include <map>
+#include <optional>
 #include <string>
 #include <vector>
 
 #include "base/option_schema.hpp"
+#include "cohort/statistics.hpp"
 
 namespace critplex::cohort {
 
@@ -50,11 +52,21 @@ struct DesignSpec {
   std::uint64_t seed = 1;
   double confidence = 0.95;
   bool record_permutations = false;  // test hook: keep the rearrangements of the first measure
+  std::vector<std::string> curves;   // curves given a cluster test along the density axis
 };
 const OptionSection& design_option_section();
 // `where` names the options in messages (e.g. "compare options"), `prefix` is put before
 // every key (e.g. "design" for the compare options' section).
 DesignSpec parse_design(const Json& design, const std::string& where, const std::string& prefix = "");
+
+// A cluster test along the density axis (freedman_lane_curves, below).
+struct CurveTestResult {
+  std::vector<double> statistic;  // per point
+  double threshold = 0.0;
+  std::vector<Cluster> clusters;
+  bool exact = false;
+  std::uint64_t null_size = 0;
+};
 
 // One row per subject and session. Text columns: "subject", "session", "group"; every
 // other column is numeric (NaN: missing). measures[name][row]: NaN where missing.
@@ -63,6 +75,18 @@ struct DesignData {
   std::map<std::string, std::vector<double>> columns;
   std::vector<std::string> measure_names;
   std::vector<std::vector<double>> measures;
+  // Curves on a shared density grid: curves[name][row] (empty: the row has none; NaN: no value).
+  std::vector<double> density;
+  std::map<std::string, std::vector<std::vector<double>>> curves;
+};
+
+struct DesignCurveTest {
+  std::string curve;
+  std::string note;               // why not tested ("" when tested)
+  std::size_t n = 0;              // units used
+  std::string statistic_name;     // "t" or "F"
+  std::vector<double> density;    // points tested (every unit has a value and the values vary)
+  std::optional<CurveTestResult> result;
 };
 
 struct DesignTest {
@@ -96,6 +120,7 @@ struct DesignResult {
   // record_permutations: for the first tested measure, each rearrangement as the source
   // row (in the original data numbering) of every position; sign flips as +1/-1 per unit.
   std::vector<std::vector<long long>> recorded;
+  std::vector<DesignCurveTest> curve_tests;  // one per spec.curves
 };
 
 DesignResult run_design(const DesignData& data, const DesignSpec& spec);
@@ -125,5 +150,17 @@ struct LinearTestOptions {
 };
 LinearTestResult freedman_lane(const Eigen::VectorXd& y, const Eigen::MatrixXd& x, const Eigen::MatrixXd& z,
                                const LinearTestOptions& options);
+
+// Cluster-mass test along the density axis (Maris & Oostenveld 2007) with the same model
+// and rearrangements: y is observations x points; at every point the statistic of the
+// design (t or F); clusters are runs of points beyond the threshold (|t| with one sign, or
+// F above it) and their mass the sum of the statistic; each cluster's p counts the
+// rearrangements whose largest |mass| reaches it. threshold NaN: the two-sided 5% t
+// quantile, or the 95% F quantile, at the model's degrees of freedom.
+CurveTestResult freedman_lane_curves(const Eigen::MatrixXd& y, const Eigen::MatrixXd& x, const Eigen::MatrixXd& z,
+                                     const LinearTestOptions& options,
+                                     double threshold = std::numeric_limits<double>::quiet_NaN());
+// P(F <= q) = probability, by bisection.
+double f_quantile(double probability, double df1, double df2);
 
 }  // namespace critplex::cohort

@@ -70,13 +70,35 @@ std::vector<std::string> texts_of(const Json& data, const std::string& where, co
   return v;
 }
 
+
+Json curve_test_json(const cohort::DesignCurveTest& t) {
+  Json j{{"curve", t.curve}, {"n", t.n}};
+  if (!t.result) {
+    j["note"] = t.note;
+    return j;
+  }
+  j["statistic"] = t.statistic_name;
+  j["density"] = t.density;
+  j["values"] = numbers_or_null(t.result->statistic);
+  j["threshold"] = t.result->threshold;
+  j["exact"] = t.result->exact;
+  j["null_size"] = t.result->null_size;
+  Json list = Json::array();
+  for (const auto& c : t.result->clusters)
+    list.push_back({{"first_density", t.density[c.first]}, {"last_density", t.density[c.last]}, {"first", c.first},
+                    {"last", c.last}, {"sign", c.sign}, {"mass", c.mass}, {"p_value", c.p_value}});
+  j["clusters"] = std::move(list);
+  return j;
+}
+
 }  // namespace
+
 
 Json design_spec_json(const cohort::DesignSpec& s) {
   return {{"design", cohort::design_name(s.kind)}, {"within", s.within},       {"between", s.between},
           {"levels", s.levels},                    {"score", s.score},         {"covariates", s.covariates},
           {"blocks", s.blocks},                    {"permutations", s.permutations}, {"seed", s.seed},
-          {"confidence", s.confidence}};
+          {"confidence", s.confidence},            {"curves", s.curves}};
 }
 
 Json design_result_json(const cohort::DesignResult& r) {
@@ -85,6 +107,11 @@ Json design_result_json(const cohort::DesignResult& r) {
   Json tests = Json::array();
   for (const auto& t : r.tests) tests.push_back(test_json(t));
   doc["tests"] = std::move(tests);
+  Json curves = Json::array();
+  for (const auto& t : r.curve_tests) curves.push_back(curve_test_json(t));
+  doc["curve_tests"] = std::move(curves);
+  doc["curve_method"] = "cluster mass along the density axis (Maris & Oostenveld 2007) with the design's statistic and "
+                        "rearrangements (Freedman-Lane)";
   if (r.spec.record_permutations) doc["permutations_used"] = r.recorded;
   return doc;
 }
@@ -120,12 +147,25 @@ cohort::DesignData design_data_from_json(const Json& data, const std::string& wh
   d.session = texts_of(data, where, "session", rows);
   d.group = texts_of(data, where, "group", rows);
   for (const auto& [key, value] : data.items())
-    if (key != "subject" && key != "session" && key != "group" && key != "columns" && key != "measures")
+    if (key != "subject" && key != "session" && key != "group" && key != "columns" && key != "measures" &&
+        key != "density" && key != "curves")
       fail(ErrorKind::argument, where + ": unknown key \"" + key + "\"");
   if (data.contains("columns")) {
     if (!data["columns"].is_object()) fail(ErrorKind::argument, where + ": \"columns\" must be an object of lists");
     for (const auto& [name, list] : data["columns"].items())
       d.columns[name] = numbers_of(list, where, "columns." + name, rows);
+  }
+  if (data.contains("curves")) {
+    if (!data.contains("density")) fail(ErrorKind::argument, where + ": \"curves\" need a \"density\" grid");
+    d.density = numbers_of(data["density"], where, "density", data["density"].size());
+    if (!data["curves"].is_object()) fail(ErrorKind::argument, where + ": \"curves\" must be an object of lists");
+    for (const auto& [name, list] : data["curves"].items()) {
+      if (!list.is_array() || list.size() != rows)
+        fail(ErrorKind::argument, where + ": \"curves." + name + "\" must hold one curve per subject (" +
+                                      std::to_string(rows) + ")");
+      auto& curves = d.curves[name];
+      for (const auto& c : list) curves.push_back(numbers_of(c, where, "curves." + name, d.density.size()));
+    }
   }
   if (!data.contains("measures") || !data["measures"].is_array() || data["measures"].empty())
     fail(ErrorKind::argument, where + ": \"measures\" must be a non-empty list of {\"name\", \"values\"}");
@@ -152,6 +192,15 @@ cohort::DesignData design_data(const std::vector<SubjectRecord>& subjects, const
     d.session.push_back(s.session);
     d.group.push_back(s.group);
   }
+  if (!subjects.empty()) d.density = subjects.front().requested;
+  for (const auto& s : subjects)
+    for (const auto& [name, values] : s.curves)
+      if (name != "density") d.curves[name];
+  for (auto& [name, rows] : d.curves)
+    for (const auto& s : subjects) {
+      const auto it = s.curves.find(name);
+      rows.push_back(it == s.curves.end() ? std::vector<double>{} : it->second);
+    }
   for (const auto& name : summaries) {
     d.measure_names.push_back(name);
     std::vector<double> values;

@@ -56,7 +56,10 @@ CompareOptions parse_compare_options(const Json& options) {
   o.confidence = r.number("confidence");
   o.covariates = r.texts("covariates");
   o.cluster_curves = r.texts("cluster_curves");
-  if (const Json* design = r.raw("design")) o.design = cohort::parse_design(*design, r.where(), "design");
+  if (const Json* design = r.raw("design")) {
+    o.design = cohort::parse_design(*design, r.where(), "design");
+    if (!design->contains("curves")) o.design->curves = o.cluster_curves;
+  }
   r.finish();
   return o;
 }

@@ -91,6 +91,9 @@ class Designs(unittest.TestCase):
         with open(os.path.join(self.xo, "design_tests.json")) as f:
             doc = json.load(f)
         self.assertEqual(doc["levels"], ["rested", "deprived"])
+        # The cluster test along density runs with the design (compare's cluster_curves: chi).
+        self.assertEqual([c["curve"] for c in doc["curve_tests"]], ["chi"])
+        self.assertIn("threshold", doc["curve_tests"][0])
         rows = self.rows(self.xo)
         checked = 0
         for row in table:

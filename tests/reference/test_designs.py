@@ -287,6 +287,102 @@ class Blocks(unittest.TestCase):
         self.assertGreater(len({tuple(p) for p in used}), 250)
 
 
+def clusters_of(stat, threshold, signed):
+    """Runs of points beyond the threshold with one sign; mass = sum (Maris & Oostenveld 2007)."""
+    out, p = [], 0
+    sign_of = (lambda v: 1 if v > threshold else (-1 if signed and v < -threshold else 0))
+    while p < len(stat):
+        s = sign_of(stat[p])
+        if s == 0:
+            p += 1
+            continue
+        first, mass = p, 0.0
+        while p < len(stat) and sign_of(stat[p]) == s:
+            mass += stat[p]
+            p += 1
+        out.append((first, p - 1, s, mass))
+    return out
+
+
+def cluster_p(observed_stat, null_stats, threshold, signed):
+    """Each observed cluster's p: share of rearrangements (identity included, exact) whose
+    largest |mass| reaches its |mass|."""
+    largest = np.array([max([abs(c[3]) for c in clusters_of(s, threshold, signed)], default=0.0) for s in null_stats])
+    return [(c[0], c[1], c[2], c[3], np.mean(largest >= abs(c[3]) - 1e-10 * max(1, abs(c[3]))))
+            for c in clusters_of(observed_stat, threshold, signed)]
+
+
+class CurvesAlongDensity(unittest.TestCase):
+    # reference: an independent cluster-mass implementation (Maris & Oostenveld 2007) written
+    # above, with every rearrangement enumerated; t and F per point from numpy / scipy.stats.f_oneway
+    def compare(self, ours, expected):
+        self.assertTrue(ours["exact"])
+        got = [(c["first"], c["last"], c["sign"], c["mass"], c["p_value"]) for c in ours["clusters"]]
+        self.assertEqual(len(got), len(expected))
+        self.assertGreater(len(got), 0)
+        for g, e in zip(got, expected):
+            self.assertEqual(g[:3], e[:3])
+            self.assertAlmostEqual(g[3], e[3], places=9)
+            self.assertAlmostEqual(g[4], e[4], places=12)
+
+    def test_paired_curves_by_sign_flips(self):
+        rng = np.random.default_rng(41)
+        n, points = 8, 12
+        density = np.linspace(0.02, 0.24, points)
+        rested = rng.normal(size=(n, points)).cumsum(axis=1)
+        bump = np.where((density > 0.08) & (density < 0.18), 1.5, 0.0)
+        deprived = rested + bump + rng.normal(0, 0.8, (n, points))
+        data = {"subject": [f"v{i}" for i in range(n)] * 2, "session": ["rested"] * n + ["deprived"] * n,
+                "measures": [{"name": "m", "values": [0.0] * (2 * n)}], "density": list(density),
+                "curves": {"chi": rested.tolist() + deprived.tolist()}}
+        out = design_test(data, {"design": "paired", "curves": ["chi"], "permutations": 256})
+        ours = out["curve_tests"][0]
+        d = deprived - rested
+        def t_of(x):
+            return x.mean(axis=0) / (x.std(axis=0, ddof=1) / np.sqrt(n))
+        flips = np.array(list(itertools.product([1, -1], repeat=n)))
+        null = [t_of(f[:, None] * d) for f in flips]
+        threshold = stats.t.ppf(0.975, n - 1)
+        self.assertAlmostEqual(ours["threshold"], threshold, places=8)
+        np.testing.assert_allclose(ours["values"], t_of(d), rtol=1e-10)
+        self.compare(ours, cluster_p(t_of(d), null, threshold, True))
+
+    def test_several_groups_curves_by_permutation(self):
+        rng = np.random.default_rng(43)
+        sizes, points = (2, 2, 3), 10
+        n = sum(sizes)
+        labels = np.repeat(["rested", "nap", "deprived"], sizes)
+        shift = np.repeat([0.0, 2.0, 4.0], sizes)[:, None] * np.r_[np.zeros(3), np.ones(4), np.zeros(3)]
+        curves = rng.normal(size=(n, points)) + shift
+        data = {"subject": [f"v{i}" for i in range(n)], "group": list(labels),
+                "measures": [{"name": "m", "values": [0.0] * n}], "density": list(np.linspace(0.01, 0.1, points)),
+                "curves": {"betti_1": curves.tolist()}}
+        ours = design_test(data, {"design": "groups", "curves": ["betti_1"], "permutations": 5040})["curve_tests"][0]
+        def f_of(c):
+            return stats.f_oneway(*[c[labels == g] for g in ("rested", "nap", "deprived")], axis=0).statistic
+        null = [f_of(curves[list(p)]) for p in itertools.permutations(range(n))]
+        threshold = stats.f.ppf(0.95, 2, n - 3)
+        self.assertAlmostEqual(ours["threshold"], threshold, places=8)
+        self.compare(ours, cluster_p(f_of(curves), null, threshold, False))
+
+    def test_regression_curves_with_a_covariate(self):
+        rng = np.random.default_rng(47)
+        n, points = 7, 9
+        score, age = rng.normal(size=n), rng.normal(size=n)
+        curves = rng.normal(size=(n, points)) + np.outer(score, np.r_[0, 0, 3, 3, 3, 3, 0, 0, 0]) + np.outer(age, np.ones(points))
+        data = {"subject": [f"v{i}" for i in range(n)], "columns": {"score": list(score), "age": list(age)},
+                "measures": [{"name": "m", "values": [0.0] * n}], "density": list(np.linspace(0.01, 0.09, points)),
+                "curves": {"chi": curves.tolist()}}
+        ours = design_test(data, {"design": "regression", "score": "score", "covariates": ["age"], "curves": ["chi"],
+                                  "permutations": 5040})["curve_tests"][0]
+        z = np.column_stack([np.ones(n), age])
+        perms = np.array(list(itertools.permutations(range(n))))
+        per_point = np.array([freedman_lane_t(curves[:, p], score, z, perms) for p in range(points)]).T  # perms x points
+        observed = t_of_first_column(curves, np.column_stack([score, z]))
+        threshold = stats.t.ppf(0.975, n - 3)
+        self.compare(ours, cluster_p(observed, per_point, threshold, True))
+
+
 class Errors(unittest.TestCase):
     def test_messages_name_the_key_or_column(self):
         data = rows_data([1.0, 2.0, 3.0, 4.0], ["a", "a", "b", "b"])
