@@ -84,6 +84,32 @@ class Designs(unittest.TestCase):
                 out.append((subject, m.get("session", ""), g["name"], m, values))
         return out
 
+    def test_crossover_layout(self):
+        # property (invented data): every volunteer has a rested and a deprived session with
+        # a 1-9 sleepiness rating; the model shifts the global signal up after the lost night.
+        manifest = read_tsv(os.path.join(self.xo_study, "manifest.tsv"))
+        self.assertEqual(len(manifest), 20)
+        by_subject = {}
+        for row in manifest:
+            by_subject.setdefault(row["subject"], []).append(row["session"])
+            self.assertIn(float(row["sleepiness"]), set(range(1, 10)))
+            self.assertTrue(os.path.exists(os.path.join(self.xo_study, row["timeseries"])))
+        self.assertTrue(all(v == ["rested", "deprived"] for v in by_subject.values()))
+        with open(os.path.join(self.xo_study, "model.json")) as f:
+            model = json.load(f)
+        strength = {(r["subject"], r["session"]): r["global_strength"] for r in model["sessions"]}
+        shift = np.mean([strength[(s, "deprived")] - strength[(s, "rested")] for s in by_subject])
+        self.assertGreater(shift, 0.2)
+        rating = {(r["subject"], r["session"]): r["sleepiness"] for r in model["sessions"]}
+        self.assertGreater(np.mean([rating[(s, "deprived")] - rating[(s, "rested")] for s in by_subject]), 2)
+        # The same request writes the same study (deterministic for a seed).
+        again = os.path.join(self.tmp.name, "xo_again")
+        cli("simulate", "--out", again, "--design", "crossover", "--subjects", "10", "--effect", "0.4",
+            "--regions", "30", "--frames", "300", "--seed", "5")
+        for name in ("manifest.tsv", "timeseries/sub-v03_ses-deprived_timeseries.tsv"):
+            with open(os.path.join(again, name)) as a, open(os.path.join(self.xo_study, name)) as b:
+                self.assertEqual(a.read(), b.read())
+
     def test_paired_from_the_command_line(self):
         p = cli("compare", self.xo, "--design", "paired", "--resamples", "4096")
         self.assertIn("design: paired", p.stdout)
