@@ -15,6 +15,7 @@ const char* design_name(DesignKind kind) {
     case DesignKind::paired: return "paired";
     case DesignKind::groups: return "groups";
     case DesignKind::regression: return "regression";
+    case DesignKind::mixed: return "mixed";
   }
   return "?";
 }
@@ -25,14 +26,14 @@ const OptionSection& design_option_section() {
       "design options",
       "cpx_cohort_compare and critplex compare (\"design\"), cpx_stats_design_test",
       "A study design tested per summary measure by permutation of a linear model (Freedman-Lane).",
-      {{.key = "design", .type = "choice", .choices = {"two_groups", "paired", "groups", "regression"},
+      {{.key = "design", .type = "choice", .choices = {"two_groups", "paired", "groups", "regression", "mixed"},
         .meaning = "paired: sessions of the same subjects (sign flips); two_groups, groups: t or F between groups; "
-                   "regression: the slope of a numeric score"},
+                   "regression: the slope of a numeric score; mixed: within x between (within, between, interaction)"},
        {.key = "within", .type = "string", .default_value = "session",
         .meaning = "paired: the column whose two levels are compared (second minus first)"},
        {.key = "between", .type = "string", .default_value = "group", .meaning = "two_groups, groups: the grouping column"},
        {.key = "levels", .type = "strings", .default_note = "order of appearance",
-        .meaning = "the levels of within (paired, exactly 2) or between, in order"},
+        .meaning = "the levels of within (paired and mixed, exactly 2) or of between, in order"},
        {.key = "score", .type = "string", .default_value = "", .meaning = "regression: the numeric column tested"},
        {.key = "covariates", .type = "strings",
         .meaning = "nuisance columns, handled by Freedman-Lane (reduced-model residuals are permuted)"},
@@ -56,7 +57,8 @@ DesignSpec parse_design(const Json& design, const std::string& where, const std:
   DesignSpec s;
   const bool has_kind = r.has("design");
   const std::string kind = has_kind ? r.choice("design") : "";
-  for (DesignKind k : {DesignKind::two_groups, DesignKind::paired, DesignKind::groups, DesignKind::regression})
+  for (DesignKind k :
+       {DesignKind::two_groups, DesignKind::paired, DesignKind::groups, DesignKind::regression, DesignKind::mixed})
     if (kind == design_name(k)) s.kind = k;
   s.within = r.text("within");
   s.between = r.text("between");
@@ -70,11 +72,11 @@ DesignSpec parse_design(const Json& design, const std::string& where, const std:
   s.record_permutations = r.boolean("record_permutations");
   s.curves = r.texts("curves");
   r.finish();
-  if (!has_kind) r.bad("design", "one of two_groups, paired, groups, regression");
+  if (!has_kind) r.bad("design", "one of two_groups, paired, groups, regression, mixed");
   if (s.kind == DesignKind::regression && s.score.empty())
     r.bad("score", "a numeric column for the regression design");
-  if (s.kind == DesignKind::paired && !s.levels.empty() && s.levels.size() != 2)
-    r.bad("levels", "exactly two levels of \"" + s.within + "\" for the paired design");
+  if ((s.kind == DesignKind::paired || s.kind == DesignKind::mixed) && !s.levels.empty() && s.levels.size() != 2)
+    r.bad("levels", "exactly two levels of \"" + s.within + "\" for the " + kind + " design");
   return s;
 }
 
@@ -210,7 +212,7 @@ LinearTestOptions engine_options(const DesignSpec& s, const std::vector<double>&
   if (!blocks.empty() && s.kind != DesignKind::paired)
     for (std::size_t r : rows) o.blocks.push_back(blocks[r]);
   if (record) {
-    const bool flips = s.kind == DesignKind::paired;
+    const bool flips = s.kind == DesignKind::paired || s.kind == DesignKind::mixed;
     o.on_rearrangement = [record, rows, flips](const std::vector<long long>& perm) {
       std::vector<long long> original(perm.size());
       for (std::size_t i = 0; i < perm.size(); ++i)
@@ -239,18 +241,13 @@ void fill_common(DesignTest& t, const LinearTestResult& r) {
   t.null_size = r.null_size;
 }
 
-// paired: one difference per subject, sign-flipped; covariates from the first level's row.
-DesignTest paired_test(const DesignData& d, const DesignSpec& s, const std::vector<double>& blocks, std::size_t m,
-                       const std::vector<std::string>& levels, std::vector<std::vector<long long>>* record) {
-  DesignTest t;
-  t.measure = d.measure_names[m];
-  t.statistic_name = "t";
-  t.levels = levels;
+// Per subject (in order of appearance): its row at each of the two levels of `within`
+// (-1: none). A subject with two rows at one level is an error.
+std::vector<std::pair<long, long>> session_pairs(const DesignData& d, const DesignSpec& s,
+                                                 const std::vector<std::string>& levels) {
   const auto within = label_column(d, s.within, "within");
-  const auto& y = d.measures[m];
   std::vector<std::string> subjects;
-  std::vector<std::size_t> first_rows, second_rows;
-  std::vector<std::pair<long, long>> pairs;  // per subject: row of each level (-1: none)
+  std::vector<std::pair<long, long>> pairs;
   for (std::size_t i = 0; i < d.subject.size(); ++i) {
     const int level = within[i] == levels[0] ? 0 : within[i] == levels[1] ? 1 : -1;
     if (level < 0) continue;
@@ -263,10 +260,24 @@ DesignTest paired_test(const DesignData& d, const DesignSpec& s, const std::vect
     auto& slot = pairs[static_cast<std::size_t>(it - subjects.begin())];
     long& target = level == 0 ? slot.first : slot.second;
     if (target >= 0)
-      fail(ErrorKind::data, "design paired: subject " + d.subject[i] + " has two rows with " + s.within + " \"" +
-                                within[i] + "\"");
+      fail(ErrorKind::argument, "design: subject " + d.subject[i] + " has two rows with " + s.within + " \"" +
+                                    within[i] + "\"");
     target = static_cast<long>(i);
   }
+  return pairs;
+}
+
+// paired: one difference per subject, sign-flipped; covariates from the first level's row.
+DesignTest paired_test(const DesignData& d, const DesignSpec& s, const std::vector<double>& blocks, std::size_t m,
+                       const std::vector<std::string>& levels, std::vector<std::vector<long long>>* record) {
+  DesignTest t;
+  t.measure = d.measure_names[m];
+  t.term = "within";
+  t.statistic_name = "t";
+  t.levels = levels;
+  const auto& y = d.measures[m];
+  std::vector<std::size_t> first_rows, second_rows;
+  const auto pairs = session_pairs(d, s, levels);
   for (const auto& [a, b] : pairs) {
     const bool complete = a >= 0 && b >= 0 && std::isfinite(y[static_cast<std::size_t>(a)]) &&
                           std::isfinite(y[static_cast<std::size_t>(b)]) && row_complete(d, s, blocks, static_cast<std::size_t>(a));
@@ -314,6 +325,7 @@ DesignTest groups_test(const DesignData& d, const DesignSpec& s, const std::vect
                        const std::vector<std::string>& levels, std::vector<std::vector<long long>>* record) {
   DesignTest t;
   t.measure = d.measure_names[m];
+  t.term = "between";
   t.levels = levels;
   t.statistic_name = levels.size() == 2 ? "t" : "F";
   const auto between = label_column(d, s.between, "between");
@@ -370,6 +382,7 @@ DesignTest regression_test(const DesignData& d, const DesignSpec& s, const std::
                            std::vector<std::vector<long long>>* record) {
   DesignTest t;
   t.measure = d.measure_names[m];
+  t.term = "score";
   t.statistic_name = "t";
   const auto& score = numeric_column(d, s.score, "score");
   const auto& y = d.measures[m];
@@ -415,6 +428,90 @@ DesignTest regression_test(const DesignData& d, const DesignSpec& s, const std::
   t.spearman = r.companion;
   t.spearman_p = r.companion_p;
   return t;
+}
+
+// mixed: per subject the difference between the two levels of `within` and the mean of
+// its two rows; three tests with the restricted rearrangements of a split-plot design.
+std::vector<DesignTest> mixed_tests(const DesignData& d, const DesignSpec& s, const std::vector<double>& blocks,
+                                    std::size_t m, const std::vector<std::string>& levels,
+                                    const std::vector<std::string>& groups, std::vector<std::vector<long long>>* record) {
+  const auto& y = d.measures[m];
+  const auto between = label_column(d, s.between, "between");
+  std::vector<std::size_t> first_rows, group_of;
+  std::vector<double> diff, mean_of_two;
+  std::size_t missing = 0;
+  for (const auto& [a, b] : session_pairs(d, s, levels)) {
+    const auto g = a >= 0 ? std::find(groups.begin(), groups.end(), between[static_cast<std::size_t>(a)]) : groups.end();
+    if (a < 0 || b < 0 || g == groups.end() || !std::isfinite(y[static_cast<std::size_t>(a)]) ||
+        !std::isfinite(y[static_cast<std::size_t>(b)]) || !row_complete(d, s, blocks, static_cast<std::size_t>(a))) {
+      ++missing;
+      continue;
+    }
+    first_rows.push_back(static_cast<std::size_t>(a));
+    group_of.push_back(static_cast<std::size_t>(g - groups.begin()));
+    diff.push_back(y[static_cast<std::size_t>(b)] - y[static_cast<std::size_t>(a)]);
+    mean_of_two.push_back(0.5 * (y[static_cast<std::size_t>(a)] + y[static_cast<std::size_t>(b)]));
+  }
+  const auto n = static_cast<Eigen::Index>(first_rows.size());
+  Eigen::MatrixXd indicators = Eigen::MatrixXd::Zero(n, static_cast<Eigen::Index>(groups.size() - 1));
+  for (Eigen::Index i = 0; i < n; ++i)
+    if (group_of[static_cast<std::size_t>(i)] > 0)
+      indicators(i, static_cast<Eigen::Index>(group_of[static_cast<std::size_t>(i)] - 1)) = 1.0;
+  const Eigen::MatrixXd covariates = covariate_matrix(d, s, first_rows);
+  const Eigen::VectorXd dv = Eigen::Map<const Eigen::VectorXd>(diff.data(), n);
+  const Eigen::VectorXd mv = Eigen::Map<const Eigen::VectorXd>(mean_of_two.data(), n);
+  std::vector<DesignTest> out;
+  for (const char* term : {"within", "between", "interaction"}) {
+    DesignTest t;
+    t.measure = d.measure_names[m];
+    t.term = term;
+    t.n = first_rows.size();
+    t.missing = missing;
+    const bool within_term = t.term == "within";
+    t.levels = within_term ? levels : groups;
+    std::vector<std::size_t> per_group(groups.size(), 0);
+    for (std::size_t g : group_of) ++per_group[g];
+    if (*std::min_element(per_group.begin(), per_group.end()) < 2) {
+      t.note = "every level of \"" + s.between + "\" needs at least 2 subjects with both levels of \"" + s.within + "\"";
+      out.push_back(std::move(t));
+      continue;
+    }
+    Eigen::MatrixXd x, z;
+    if (within_term) {  // mean difference, groups and covariates centred as nuisance
+      x = Eigen::MatrixXd::Ones(n, 1);
+      z.resize(n, indicators.cols() + covariates.cols());
+      z << indicators, covariates;
+      z.rowwise() -= z.colwise().mean();
+    } else {  // differences (interaction) or means (between) across the groups
+      x = indicators;
+      z.resize(n, 1 + covariates.cols());
+      z << Eigen::VectorXd::Ones(n), covariates;
+    }
+    LinearTestOptions o = engine_options(s, blocks, first_rows, out.empty() ? record : nullptr);
+    o.sign_flip = within_term;
+    if (within_term) o.blocks.clear();
+    LinearTestResult r;
+    try {
+      r = freedman_lane(t.term == "between" ? mv : dv, x, z, o);
+    } catch (const Error& e) {
+      if (e.kind() != ErrorKind::data) throw;
+      t.note = e.what();
+      out.push_back(std::move(t));
+      continue;
+    }
+    fill_common(t, r);
+    t.statistic_name = x.cols() == 1 ? "t" : "F";
+    if (x.cols() == 1) {
+      fill_estimate(t, r, s.confidence);
+      t.effect_name = within_term ? "d_z" : "standardised_difference";
+      t.effect = t.estimate / r.residual_sd;
+    } else {
+      t.effect_name = "partial_eta_squared";
+      t.effect = r.statistic * r.df1 / (r.statistic * r.df1 + r.df2);
+    }
+    out.push_back(std::move(t));
+  }
+  return out;
 }
 
 // The model of a curve test: the units (rows; paired: first-level rows with their
@@ -532,10 +629,18 @@ DesignResult run_design(const DesignData& d, const DesignSpec& s) {
   if (s.kind == DesignKind::regression) numeric_column(d, s.score, "score");
   DesignResult result;
   result.spec = s;
-  if (s.kind == DesignKind::paired) {
+  std::vector<std::string> groups;
+  if (s.kind == DesignKind::mixed) {
+    DesignSpec no_levels = s;
+    no_levels.levels.clear();
+    groups = level_order(label_column(d, s.between, "between"), no_levels, "between");
+    if (groups.size() < 2)
+      fail(ErrorKind::argument, "design mixed: \"between\" (" + s.between + ") has fewer than 2 levels");
+  }
+  if (s.kind == DesignKind::paired || s.kind == DesignKind::mixed) {
     result.levels = level_order(label_column(d, s.within, "within"), s, "within");
     if (result.levels.size() != 2)
-      fail(ErrorKind::argument, "design paired: \"within\" (" + s.within + ") has " +
+      fail(ErrorKind::argument, std::string("design ") + design_name(s.kind) + ": \"within\" (" + s.within + ") has " +
                                     std::to_string(result.levels.size()) + " levels; name two in \"levels\"");
   } else if (s.kind != DesignKind::regression) {
     result.levels = level_order(label_column(d, s.between, "between"), s, "between");
@@ -547,6 +652,10 @@ DesignResult run_design(const DesignData& d, const DesignSpec& s) {
   }
   for (std::size_t m = 0; m < d.measures.size(); ++m) {
     auto* record = s.record_permutations && result.recorded.empty() ? &result.recorded : nullptr;
+    if (s.kind == DesignKind::mixed) {
+      for (auto& t : mixed_tests(d, s, blocks, m, result.levels, groups, record)) result.tests.push_back(std::move(t));
+      continue;
+    }
     DesignTest t;
     try {
       t = s.kind == DesignKind::paired       ? paired_test(d, s, blocks, m, result.levels, record)
@@ -569,7 +678,13 @@ DesignResult run_design(const DesignData& d, const DesignSpec& s) {
   const auto adjusted = benjamini_hochberg(p);
   for (std::size_t i = 0, k = 0; i < result.tests.size(); ++i)
     if (result.tests[i].tested) result.tests[i].p_adjusted = adjusted[k++];
-  for (const auto& curve : s.curves) result.curve_tests.push_back(curve_test(d, s, blocks, result.levels, curve));
+  for (const auto& curve : s.curves) {
+    if (s.kind == DesignKind::mixed) {
+      result.curve_tests.push_back(DesignCurveTest{curve, "curve tests are not available for the mixed design", 0, "", {}, {}});
+      continue;
+    }
+    result.curve_tests.push_back(curve_test(d, s, blocks, result.levels, curve));
+  }
   return result;
 }
 

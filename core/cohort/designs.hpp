@@ -13,6 +13,11 @@
 //  - paired: one difference per subject (second level minus first level of `within`),
 //    tested by sign flipping (symmetric errors); every one of the 2^n flips is enumerated
 //    when 2^n <= permutations, else `permutations` random flips.
+//  - mixed (2 levels of `within` x the levels of `between`): per subject the difference
+//    d (second minus first level) and the mean m of its two rows; "within" tests the mean
+//    of d by sign flips with the groups (centred) as nuisance, "interaction" tests d
+//    between the groups and "between" tests m between the groups, both by permuting whole
+//    subjects (within blocks) - the restricted permutations of a split-plot design.
 //  - two_groups, groups, regression: rows are permuted, only within their block when
 //    `blocks` names a column; every permutation is enumerated when their number
 //    (the product over blocks of the block size factorial) is at most `permutations`.
@@ -37,7 +42,7 @@
 
 namespace critplex::cohort {
 
-enum class DesignKind { two_groups, paired, groups, regression };
+enum class DesignKind { two_groups, paired, groups, regression, mixed };
 const char* design_name(DesignKind kind);
 
 struct DesignSpec {
@@ -91,6 +96,9 @@ struct DesignCurveTest {
 
 struct DesignTest {
   std::string measure;
+  // What is tested: "within" (paired), "between" (two_groups, groups), "score"
+  // (regression); mixed has three rows per measure: "within", "between", "interaction".
+  std::string term;
   bool tested = false;
   std::string note;  // why not tested
   std::size_t n = 0, missing = 0;  // units used (subjects for paired, rows otherwise), left out

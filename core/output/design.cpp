@@ -17,7 +17,7 @@ std::string join(const std::vector<std::string>& items, const char* separator) {
 }
 
 Json test_json(const cohort::DesignTest& t) {
-  Json j{{"measure", t.measure}, {"tested", t.tested}, {"n", t.n}, {"missing", t.missing}};
+  Json j{{"measure", t.measure}, {"term", t.term}, {"tested", t.tested}, {"n", t.n}, {"missing", t.missing}};
   if (!t.tested) {
     j["note"] = t.note;
     return j;
@@ -117,19 +117,19 @@ Json design_result_json(const cohort::DesignResult& r) {
 }
 
 std::string design_tests_tsv(const cohort::DesignResult& r) {
-  Tsv table({"measure", "design", "levels", "n", "missing", "statistic", "value", "df1", "df2", "p_value", "p_adjusted",
+  Tsv table({"measure", "design", "term", "levels", "n", "missing", "statistic", "value", "df1", "df2", "p_value", "p_adjusted",
              "p_parametric", "exact", "null_size", "estimate", "estimate_lower", "estimate_upper", "effect",
              "effect_value", "effect_lower", "effect_upper", "spearman_rho", "spearman_p", "note"});
   const double none = std::numeric_limits<double>::quiet_NaN();
   for (const auto& t : r.tests) {
     const std::string levels = t.levels.empty() ? missing : join(t.levels, ",");
     if (!t.tested) {
-      table.add({t.measure, cohort::design_name(r.spec.kind), levels, cell(t.n), cell(t.missing), missing, cell(none),
+      table.add({t.measure, cohort::design_name(r.spec.kind), t.term.empty() ? missing : t.term, levels, cell(t.n), cell(t.missing), missing, cell(none),
                  cell(none), cell(none), cell(none), cell(none), cell(none), missing, missing, cell(none), cell(none),
                  cell(none), missing, cell(none), cell(none), cell(none), cell(none), cell(none), t.note});
       continue;
     }
-    table.add({t.measure, cohort::design_name(r.spec.kind), levels, cell(t.n), cell(t.missing), t.statistic_name,
+    table.add({t.measure, cohort::design_name(r.spec.kind), t.term, levels, cell(t.n), cell(t.missing), t.statistic_name,
                cell(t.statistic), cell(t.df1), cell(t.df2), cell(t.p_value), cell(t.p_adjusted), cell(t.p_parametric),
                cell(t.exact), cell(static_cast<std::size_t>(t.null_size)), cell(t.estimate), cell(t.estimate_lower),
                cell(t.estimate_upper), t.effect_name.empty() ? missing : t.effect_name, cell(t.effect),

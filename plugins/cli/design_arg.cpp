@@ -9,7 +9,7 @@ namespace critplex_cli {
 std::vector<Flag> design_flags() {
   return {{"design", "FILE|KIND",
            "a study design: a JSON file ({\"design\": ..., \"within\", \"between\", \"score\", \"covariates\", "
-           "\"blocks\", \"permutations\", \"seed\"}) or two_groups, paired, groups, regression; writes "
+           "\"blocks\", \"permutations\", \"seed\"}) or two_groups, paired, groups, regression, mixed; writes "
            "design_tests.tsv and design_tests.json"},
           {"score", "COLUMN", "with --design regression: the manifest column whose slope is tested"},
           {"blocks", "COLUMN", "with --design: manifest column of exchangeability blocks (e.g. site)"}};
@@ -18,10 +18,10 @@ std::vector<Flag> design_flags() {
 namespace {
 
 nlohmann::json design_from_argument(const std::string& value) {
-  for (const char* kind : {"two_groups", "paired", "groups", "regression"})
+  for (const char* kind : {"two_groups", "paired", "groups", "regression", "mixed"})
     if (value == kind) return {{"design", value}};
   if (!path_exists(value))
-    throw Failure("--design: '" + value + "' is neither a design (two_groups, paired, groups, regression) nor a file", 2);
+    throw Failure("--design: '" + value + "' is neither a design (two_groups, paired, groups, regression, mixed) nor a file", 2);
   std::ifstream in(value);
   std::stringstream text;
   text << in.rdbuf();
@@ -62,16 +62,18 @@ void print_design_tests(const nlohmann::json& comparison, const std::string& dir
   if (!comparison.contains("design_tests")) return;
   const auto& doc = comparison["design_tests"];
   std::printf("\ndesign: %s\n", doc["design"]["design"].get<std::string>().c_str());
-  std::printf("%-40s %4s %9s %10s %10s %10s %10s %20s\n", "measure", "n", "statistic", "estimate", "effect", "p",
+  std::printf("%-40s %-11s %4s %9s %10s %10s %10s %10s %20s\n", "measure", "term", "n", "statistic", "estimate", "effect", "p",
               "p (BH)", "effect name");
   for (const auto& t : doc["tests"]) {
     if (!t.value("tested", false)) {
-      std::printf("%-40s %4s  not tested: %s\n", t["measure"].get<std::string>().c_str(),
+      std::printf("%-40s %-11s %4s  not tested: %s\n", t["measure"].get<std::string>().c_str(),
+                  t.value("term", "").c_str(),
                   std::to_string(t["n"].get<std::size_t>()).c_str(), t.value("note", "").c_str());
       continue;
     }
     const std::string stat = t["statistic"].get<std::string>() + "=" + number_text(t["value"], "%.3g");
-    std::printf("%-40s %4zu %9s %10s %10s %10s %10s %20s\n", t["measure"].get<std::string>().c_str(),
+    std::printf("%-40s %-11s %4zu %9s %10s %10s %10s %10s %20s\n", t["measure"].get<std::string>().c_str(),
+                t.value("term", "").c_str(),
                 t["n"].get<std::size_t>(), stat.c_str(), number_text(t["estimate"], "%.4g").c_str(),
                 number_text(t["effect_value"], "%.3f").c_str(), number_text(t["p_value"], "%.4g").c_str(),
                 number_text(t["p_adjusted"], "%.4g").c_str(), t["effect"].get<std::string>().c_str());

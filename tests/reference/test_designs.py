@@ -383,6 +383,49 @@ class CurvesAlongDensity(unittest.TestCase):
         self.compare(ours, cluster_p(observed, per_point, threshold, True))
 
 
+class Mixed(unittest.TestCase):
+    # reference: scipy.stats.ttest_ind and permutation_test(permutation_type="independent",
+    # exact) on the per-subject differences (interaction) and means (between);
+    # statsmodels OLS and scipy permutation_test("samples") for the within effect
+    def test_split_plot_terms(self):
+        rng = np.random.default_rng(53)
+        n_per = 4
+        groups = np.repeat(["rested_first", "deprived_first"], n_per)
+        n = 2 * n_per
+        before = rng.normal(0.3, 0.05, n)
+        after = before + 0.03 + 0.04 * (groups == "deprived_first") + rng.normal(0, 0.02, n)
+        data = {"subject": [f"v{i}" for i in range(n)] * 2, "session": ["one"] * n + ["two"] * n,
+                "group": list(groups) * 2, "measures": [{"name": "m", "values": list(before) + list(after)}]}
+        out = design_test(data, {"design": "mixed", "permutations": 40320})
+        terms = {t["term"]: t for t in out["tests"]}
+        self.assertEqual(set(terms), {"within", "between", "interaction"})
+        d, mean2 = after - before, (after + before) / 2
+        a, b = groups == "rested_first", groups == "deprived_first"
+        for term, values in (("interaction", d), ("between", mean2)):
+            t = terms[term]
+            ref = stats.ttest_ind(values[b], values[a])
+            self.assertAlmostEqual(t["value"], ref.statistic, places=9)
+            self.assertAlmostEqual(t["p_parametric"], ref.pvalue, places=9)
+            perm = stats.permutation_test((values[b], values[a]), lambda x, y, axis=-1: np.mean(x, axis=axis) - np.mean(y, axis=axis),
+                                          permutation_type="independent", vectorized=True, n_resamples=10 ** 9)
+            self.assertTrue(t["exact"])
+            self.assertAlmostEqual(t["p_value"], perm.pvalue, places=12)
+        # within: intercept of d ~ 1 + centred group indicator (statsmodels OLS); its
+        # permutation p against an independent sign-flip Freedman-Lane over all 2^8 flips.
+        zc = b.astype(float) - b.mean()
+        fit = sm.OLS(d, np.column_stack([np.ones(n), zc])).fit()
+        w = terms["within"]
+        self.assertAlmostEqual(w["value"], fit.tvalues[0], places=9)
+        self.assertAlmostEqual(w["estimate"], fit.params[0], places=12)
+        fitted = zc * (zc @ d) / (zc @ zc)
+        resid = d - fitted
+        flips = np.array(list(itertools.product([1, -1], repeat=n)))
+        ystar = fitted[:, None] + (flips * resid).T
+        null = t_of_first_column(ystar, np.column_stack([np.ones(n), zc]))
+        self.assertTrue(w["exact"])
+        self.assertAlmostEqual(w["p_value"], two_sided(null, fit.tvalues[0], True), places=12)
+
+
 class Errors(unittest.TestCase):
     def test_messages_name_the_key_or_column(self):
         data = rows_data([1.0, 2.0, 3.0, 4.0], ["a", "a", "b", "b"])

@@ -271,13 +271,16 @@ CPX_API cpx_status cpx_stats_t_quantile(double probability, double degrees_of_fr
  * data_json: {"subject": [...], "session": [...], "group": [...], "columns": {"age": [...],
  * "site": [...]}, "measures": [{"name", "values": [...]}]} (one entry per subject and
  * session; session, group and columns optional; null marks a missing value).
- * design_json: {"design": "two_groups"|"paired"|"groups"|"regression", "within": "session",
+ * design_json: {"design": "two_groups"|"paired"|"groups"|"regression"|"mixed", "within": "session",
  * "between": "group", "levels": [...], "score": column, "covariates": [columns], "blocks":
  * column, "permutations": 9999, "seed": 1, "confidence": 0.95, "record_permutations": false}.
  * paired: sign flips of the per-subject differences (all 2^n when 2^n <= permutations);
  * two_groups (t), groups (F), regression (t of the slope, Pearson and Spearman r): rows
- * permuted within blocks (all of them when few enough). Covariates by Freedman-Lane.
- * Result: {"design", "levels", "tests": [{"measure", "statistic", "value", "df1", "df2",
+ * permuted within blocks (all of them when few enough); mixed: three rows per measure
+ * (term "within": sign flips of the differences; "between", "interaction": whole subjects
+ * permuted). Covariates by Freedman-Lane. Optional "curves" (with "density" in the data):
+ * cluster-mass tests along the density axis ("curve_tests").
+ * Result: {"design", "levels", "tests": [{"measure", "term", "statistic", "value", "df1", "df2",
  * "p_value", "p_adjusted", "p_parametric", "exact", "null_size", "estimate",
  * "estimate_interval", "effect", "effect_value", "effect_interval", "spearman_rho",
  * "spearman_p", ...}], "permutations_used" (with record_permutations)}. Errors name the
