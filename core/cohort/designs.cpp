@@ -650,6 +650,14 @@ DesignResult run_design(const DesignData& d, const DesignSpec& s) {
     if (result.levels.size() < 2)
       fail(ErrorKind::argument, "design groups: \"between\" (" + s.between + ") has fewer than 2 levels");
   }
+  if (s.kind != DesignKind::paired && s.kind != DesignKind::mixed && s.blocks != "subject") {
+    // Rows of one subject are not exchangeable with other subjects' rows.
+    std::vector<std::string> seen(d.subject);
+    std::sort(seen.begin(), seen.end());
+    if (std::adjacent_find(seen.begin(), seen.end()) != seen.end())
+      result.notes.push_back("some subjects have several rows (sessions) that are permuted as if independent; "
+                             "use \"blocks\": \"subject\", or the paired or mixed design");
+  }
   for (std::size_t m = 0; m < d.measures.size(); ++m) {
     auto* record = s.record_permutations && result.recorded.empty() ? &result.recorded : nullptr;
     if (s.kind == DesignKind::mixed) {

@@ -129,6 +129,7 @@ struct DesignResult {
   // row (in the original data numbering) of every position; sign flips as +1/-1 per unit.
   std::vector<std::vector<long long>> recorded;
   std::vector<DesignCurveTest> curve_tests;  // one per spec.curves
+  std::vector<std::string> notes;            // cautions about the design (e.g. repeated rows)
 };
 
 DesignResult run_design(const DesignData& data, const DesignSpec& spec);

@@ -103,7 +103,7 @@ Json design_spec_json(const cohort::DesignSpec& s) {
 
 Json design_result_json(const cohort::DesignResult& r) {
   Json doc{{"kind", "critplex design tests"}, {"format_version", 1}, {"design", design_spec_json(r.spec)},
-           {"levels", r.levels}};
+           {"levels", r.levels}, {"notes", r.notes}};
   Json tests = Json::array();
   for (const auto& t : r.tests) tests.push_back(test_json(t));
   doc["tests"] = std::move(tests);

@@ -78,6 +78,7 @@ void print_design_tests(const nlohmann::json& comparison, const std::string& dir
                 number_text(t["effect_value"], "%.3f").c_str(), number_text(t["p_value"], "%.4g").c_str(),
                 number_text(t["p_adjusted"], "%.4g").c_str(), t["effect"].get<std::string>().c_str());
   }
+  for (const auto& note : doc.value("notes", nlohmann::json::array())) std::printf("note: %s\n", note.get<std::string>().c_str());
   std::printf("written: %s/design_tests.tsv, %s/design_tests.json\n", dir.c_str(), dir.c_str());
 }
 

@@ -162,6 +162,7 @@ class Designs(unittest.TestCase):
         c = critplex.compare(self.xo, design={"design": "regression", "score": "sleepiness", "blocks": "subject",
                                               "permutations": 2000})
         rows = self.rows(self.xo)
+        self.assertEqual(c.design["notes"], [])
         tests = {t["measure"]: t for t in c.design["tests"] if t["tested"]}
         self.assertIn("beta_1_peak", tests)
         for name, t in tests.items():
@@ -214,6 +215,10 @@ class Designs(unittest.TestCase):
         self.assertFalse(os.path.exists(os.path.join(self.g3, "design_tests.tsv")))
         p = cli("compare", self.g3, "--design", "regression", "--score", "sleepiness", check=False)
         self.assertIn("sleepiness", p.stderr)
+
+    def test_repeated_rows_without_blocks_get_a_note(self):
+        p = cli("compare", self.xo, "--design", "regression", "--score", "sleepiness", "--resamples", "199")
+        self.assertIn("note: some subjects have several rows", p.stdout)
 
 
 if __name__ == "__main__":
