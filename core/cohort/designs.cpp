@@ -47,6 +47,8 @@ const OptionSection& design_option_section() {
         .max_open = true, .meaning = "level of the intervals of estimates and effect sizes"},
        {.key = "curves", .type = "strings", .default_note = "compare: its cluster_curves; else none",
         .meaning = "curves (chi, betti_1, ...) given a cluster-mass test along the density axis with the design"},
+       {.key = "curve_statistic", .type = "choice", .default_value = "cluster_mass", .choices = {"cluster_mass", "tfce"},
+        .meaning = "curve tests: cluster mass only, or also threshold-free cluster enhancement per point"},
        {.key = "record_permutations", .type = "boolean", .default_value = false,
         .meaning = "test hook: return the rearrangements used for the first measure"}}};
   return section;
@@ -71,6 +73,7 @@ DesignSpec parse_design(const Json& design, const std::string& where, const std:
   s.confidence = r.number("confidence");
   s.record_permutations = r.boolean("record_permutations");
   s.curves = r.texts("curves");
+  s.tfce = r.choice("curve_statistic") == "tfce";
   r.finish();
   if (!has_kind) r.bad("design", "one of two_groups, paired, groups, regression, mixed");
   if (s.kind == DesignKind::regression && s.score.empty())
@@ -602,7 +605,7 @@ DesignCurveTest curve_test(const DesignData& d, const DesignSpec& s, const std::
   LinearTestOptions o = engine_options(s, blocks, m.rows, nullptr);
   o.sign_flip = s.kind == DesignKind::paired;
   try {
-    t.result = freedman_lane_curves(kept, m.x, m.z, o);
+    t.result = freedman_lane_curves(kept, m.x, m.z, o, std::numeric_limits<double>::quiet_NaN(), s.tfce);
   } catch (const Error& e) {
     if (e.kind() != ErrorKind::data) throw;
     t.note = e.what();

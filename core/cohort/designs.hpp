@@ -58,6 +58,7 @@ struct DesignSpec {
   double confidence = 0.95;
   bool record_permutations = false;  // test hook: keep the rearrangements of the first measure
   std::vector<std::string> curves;   // curves given a cluster test along the density axis
+  bool tfce = false;                 // curve tests also threshold-free (curve_statistic "tfce")
 };
 const OptionSection& design_option_section();
 // `where` names the options in messages (e.g. "compare options"), `prefix` is put before
@@ -71,6 +72,9 @@ struct CurveTestResult {
   std::vector<Cluster> clusters;
   bool exact = false;
   std::uint64_t null_size = 0;
+  // With tfce: the enhanced value per point and its p against the largest |value| per
+  // rearrangement (empty otherwise).
+  std::vector<double> tfce, tfce_p;
 };
 
 // One row per subject and session. Text columns: "subject", "session", "group"; every
@@ -166,9 +170,11 @@ LinearTestResult freedman_lane(const Eigen::VectorXd& y, const Eigen::MatrixXd& 
 // F above it) and their mass the sum of the statistic; each cluster's p counts the
 // rearrangements whose largest |mass| reaches it. threshold NaN: the two-sided 5% t
 // quantile, or the 95% F quantile, at the model's degrees of freedom.
+// tfce: also threshold-free cluster enhancement (Smith & Nichols 2009; E = 0.5, H = 2,
+// steps of 0.1 in statistic units, extent counted in grid points).
 CurveTestResult freedman_lane_curves(const Eigen::MatrixXd& y, const Eigen::MatrixXd& x, const Eigen::MatrixXd& z,
                                      const LinearTestOptions& options,
-                                     double threshold = std::numeric_limits<double>::quiet_NaN());
+                                     double threshold = std::numeric_limits<double>::quiet_NaN(), bool tfce = false);
 // P(F <= q) = probability, by bisection.
 double f_quantile(double probability, double df1, double df2);
 

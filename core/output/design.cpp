@@ -88,6 +88,10 @@ Json curve_test_json(const cohort::DesignCurveTest& t) {
     list.push_back({{"first_density", t.density[c.first]}, {"last_density", t.density[c.last]}, {"first", c.first},
                     {"last", c.last}, {"sign", c.sign}, {"mass", c.mass}, {"p_value", c.p_value}});
   j["clusters"] = std::move(list);
+  if (!t.result->tfce.empty()) {
+    j["tfce"] = numbers_or_null(t.result->tfce);
+    j["tfce_p"] = numbers_or_null(t.result->tfce_p);
+  }
   return j;
 }
 
@@ -98,7 +102,8 @@ Json design_spec_json(const cohort::DesignSpec& s) {
   return {{"design", cohort::design_name(s.kind)}, {"within", s.within},       {"between", s.between},
           {"levels", s.levels},                    {"score", s.score},         {"covariates", s.covariates},
           {"blocks", s.blocks},                    {"permutations", s.permutations}, {"seed", s.seed},
-          {"confidence", s.confidence},            {"curves", s.curves}};
+          {"confidence", s.confidence},            {"curves", s.curves},
+          {"curve_statistic", s.tfce ? "tfce" : "cluster_mass"}};
 }
 
 Json design_result_json(const cohort::DesignResult& r) {

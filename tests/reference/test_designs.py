@@ -383,6 +383,55 @@ class CurvesAlongDensity(unittest.TestCase):
         self.compare(ours, cluster_p(observed, per_point, threshold, True))
 
 
+def tfce_along(stat, signed, dh=0.1, e_power=0.5, h_power=2.0):
+    """Threshold-free cluster enhancement in one dimension (Smith & Nichols 2009, NeuroImage
+    44:83-98): sum over heights h = dh, 2dh, ... of extent(h)^E h^H dh."""
+    out = np.zeros(len(stat))
+    for sign in ((1, -1) if signed else (1,)):
+        v = sign * np.asarray(stat)
+        k = 1
+        while k * dh <= v.max():
+            h = k * dh
+            above = v >= h
+            p = 0
+            while p < len(v):
+                if not above[p]:
+                    p += 1
+                    continue
+                end = p
+                while end < len(v) and above[end]:
+                    end += 1
+                out[p:end] += sign * (end - p) ** e_power * h ** h_power * dh
+                p = end
+            k += 1
+    return out
+
+
+class ThresholdFree(unittest.TestCase):
+    # reference: an independent 1-D TFCE (Smith & Nichols 2009) written above, all 2^7 flips
+    def test_paired_tfce_matches_the_independent_implementation(self):
+        rng = np.random.default_rng(61)
+        n, points = 7, 11
+        density = np.linspace(0.02, 0.22, points)
+        rested = rng.normal(size=(n, points))
+        deprived = rested + np.where((density > 0.06) & (density < 0.16), 1.2, 0.0) + rng.normal(0, 0.7, (n, points))
+        data = {"subject": [f"v{i}" for i in range(n)] * 2, "session": ["rested"] * n + ["deprived"] * n,
+                "measures": [{"name": "m", "values": [0.0] * (2 * n)}], "density": list(density),
+                "curves": {"chi": rested.tolist() + deprived.tolist()}}
+        ours = design_test(data, {"design": "paired", "curves": ["chi"], "curve_statistic": "tfce",
+                                  "permutations": 128})["curve_tests"][0]
+        d = deprived - rested
+        def t_of(x):
+            return x.mean(axis=0) / (x.std(axis=0, ddof=1) / np.sqrt(n))
+        observed = tfce_along(t_of(d), True)
+        np.testing.assert_allclose(ours["tfce"], observed, rtol=1e-9, atol=1e-12)
+        flips = np.array(list(itertools.product([1, -1], repeat=n)))
+        largest = np.array([np.abs(tfce_along(t_of(f[:, None] * d), True)).max() for f in flips])
+        expected_p = [np.mean(largest >= abs(v) - 1e-10 * max(1, abs(v))) for v in observed]
+        np.testing.assert_allclose(ours["tfce_p"], expected_p, rtol=0, atol=1e-12)
+        self.assertLess(min(ours["tfce_p"]), 0.1)
+
+
 class Mixed(unittest.TestCase):
     # reference: scipy.stats.ttest_ind and permutation_test(permutation_type="independent",
     # exact) on the per-subject differences (interaction) and means (between);
