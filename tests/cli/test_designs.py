@@ -216,6 +216,19 @@ class Designs(unittest.TestCase):
         p = cli("compare", self.g3, "--design", "regression", "--score", "sleepiness", check=False)
         self.assertIn("sleepiness", p.stderr)
 
+    def test_python_design_test_equals_the_comparison(self):
+        # The same paired test from values given directly (critplex.design_test).
+        c = critplex.compare(self.xo, design={"design": "paired", "permutations": 4096, "curves": []})
+        rows = self.rows(self.xo)
+        data = {"subject": [r[0] for r in rows], "session": [r[1] for r in rows],
+                "measures": [{"name": "beta_1_peak",
+                              "values": [None if not np.isfinite(r[4]["beta_1_peak"]) else r[4]["beta_1_peak"]
+                                         for r in rows]}]}
+        direct = critplex.design_test(data, {"design": "paired", "permutations": 4096})["tests"][0]
+        from_compare = next(t for t in c.design["tests"] if t["measure"] == "beta_1_peak")
+        for key in ("value", "p_value", "estimate", "n"):
+            self.assertEqual(direct[key], from_compare[key])
+
     def test_repeated_rows_without_blocks_get_a_note(self):
         p = cli("compare", self.xo, "--design", "regression", "--score", "sleepiness", "--resamples", "199")
         self.assertIn("note: some subjects have several rows", p.stdout)

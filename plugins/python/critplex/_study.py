@@ -289,6 +289,29 @@ def compare(results_dir: Union[str, os.PathLike], options: Optional[Mapping[str,
     return Comparison(dir=os.fspath(results_dir), tests=tests, document=doc)
 
 
+def design_test(data: Mapping[str, Any], design: Mapping[str, Any]) -> Dict[str, Any]:
+    """A study design tested on values given directly (``cpx_stats_design_test``).
+
+    Parameters
+    ----------
+    data : dict
+        ``{"subject": [...], "session": [...], "group": [...], "columns": {"age": [...]},
+        "measures": [{"name", "values": [...]}]}``, one entry per subject and session
+        (``None`` marks a missing value); optionally ``"density"`` and ``"curves"``.
+    design : dict
+        ``{"design": "two_groups" | "paired" | "groups" | "regression" | "mixed", ...}``
+        (the design options of :func:`compare`).
+
+    Returns
+    -------
+    dict
+        ``{"design", "levels", "notes", "tests": [...], "curve_tests": [...]}``.
+    """
+    p = ctypes.c_void_p()
+    check(library().cpx_stats_design_test(json.dumps(data).encode(), json.dumps(design).encode(), ctypes.byref(p)))
+    return json.loads(take_string(p))
+
+
 def report(results_dir: Union[str, os.PathLike], options: Optional[Mapping[str, Any]] = None, **more: Any) -> Report:
     """Write the self-contained HTML report of a compared cohort folder.
 
