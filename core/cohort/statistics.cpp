@@ -161,6 +161,14 @@ double student_t_cdf(double t, double df) {
   return t > 0 ? 1.0 - tail : tail;
 }
 
+double f_upper_tail(double f, double df1, double df2) {
+  if (!(df1 > 0.0 && df2 > 0.0)) fail(ErrorKind::argument, "F distribution: degrees of freedom must be positive");
+  if (std::isnan(f)) return f;
+  if (f <= 0.0) return 1.0;
+  if (std::isinf(f)) return 0.0;
+  return incomplete_beta(df2 / (df2 + df1 * f), df1 * f / (df2 + df1 * f), df2 / 2.0, df1 / 2.0);
+}
+
 double student_t_quantile(double probability, double df) {
   if (!(probability > 0.0 && probability < 1.0))
     fail(ErrorKind::argument, "Student t quantile: probability must be in (0, 1), got " + std::to_string(probability));

@@ -71,6 +71,8 @@ double normal_quantile(double p);
 // and parametric p-values). Via the regularised incomplete beta function (DLMF 8.17).
 double student_t_cdf(double t, double df);
 double student_t_quantile(double probability, double df);
+// Upper tail of the F distribution, P(F > f) = I_{d2/(d2 + d1 f)}(d2/2, d1/2) (DLMF 8.17).
+double f_upper_tail(double f, double df1, double df2);
 
 // numpy.percentile with the default linear interpolation; q in [0, 100].
 double percentile(std::vector<double> values, double q);

@@ -6,6 +6,7 @@
 #include <limits>
 
 #include "base/error.hpp"
+#include "output/design.hpp"
 #include "output/format.hpp"
 #include "output/statistics.hpp"
 
@@ -18,10 +19,12 @@ const double nan_value = std::numeric_limits<double>::quiet_NaN();
 }  // namespace
 
 Json compare_options_json(const pipeline::CompareOptions& o) {
-  return {{"band", o.band},         {"groups", o.groups},         {"statistic", o.statistic},
-          {"exact_limit", o.exact_limit}, {"resamples", o.resamples}, {"seed", o.seed},
-          {"confidence", o.confidence}, {"covariates", o.covariates}, {"cluster_curves", o.cluster_curves},
-          {"primary", o.primary}};
+  Json j{{"band", o.band},         {"groups", o.groups},         {"statistic", o.statistic},
+         {"exact_limit", o.exact_limit}, {"resamples", o.resamples}, {"seed", o.seed},
+         {"confidence", o.confidence}, {"covariates", o.covariates}, {"cluster_curves", o.cluster_curves},
+         {"primary", o.primary}};
+  if (o.design) j["design"] = design_spec_json(*o.design);
+  return j;
 }
 
 namespace {
@@ -163,6 +166,7 @@ Json comparison_json(const pipeline::Comparison& c) {
   doc["missing"] = c.missing;
   doc["warnings"] = c.warnings;
   doc["provenance"] = c.provenance;
+  if (c.design) doc["design_tests"] = design_result_json(*c.design);
   doc["caution"] = "Research software, not a medical device: not for clinical decisions.";
   return doc;
 }

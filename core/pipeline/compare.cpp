@@ -8,6 +8,7 @@
 #include "base/error.hpp"
 #include "io/files.hpp"
 #include "output/comparison.hpp"
+#include "output/design.hpp"
 #include "output/subject.hpp"
 #include "pipeline/cohort.hpp"
 #include "pipeline/provenance.hpp"
@@ -40,7 +41,10 @@ const OptionSection& compare_option_section() {
         .meaning = "curves given a cluster-based permutation test along the density axis"},
        {.key = "primary", .type = "strings", .default_note = "the first summary (first chi zero)",
         .meaning = "headline summaries: listed first in the tests table, in this order, with their permutation null "
-                   "drawn in the report"}}};
+                   "drawn in the report"},
+       {.key = "design", .type = "object", .default_note = "none",
+        .meaning = "a study design tested per summary (design options); writes design_tests.tsv and "
+                   "design_tests.json"}}};
   return section;
 }
 
@@ -57,6 +61,10 @@ CompareOptions parse_compare_options(const Json& options) {
   o.covariates = r.texts("covariates");
   o.cluster_curves = r.texts("cluster_curves");
   o.primary = r.texts("primary");
+  if (const Json* design = r.raw("design")) {
+    o.design = cohort::parse_design(*design, r.where(), "design");
+    if (!design->contains("curves")) o.design->curves = o.cluster_curves;
+  }
   r.finish();
   o.given = options.is_null() ? Json::object() : options;
   return o;
@@ -341,6 +349,7 @@ Comparison compare(const std::vector<output::SubjectRecord>& subjects, const Com
       c.clusters.push_back(cluster_test(curve, members[g], members[0], groups[g], groups[0], c.density, options));
   c.null_baseline = null_baseline(subjects, c.density);
   c.warnings = null_warnings(subjects);
+  if (options.design) c.design = cohort::run_design(output::design_data(subjects, summary_names), *options.design);
   return c;
 }
 
@@ -394,8 +403,13 @@ Comparison compare_and_write(const std::string& dir, const CompareOptions& optio
   // Both texts first, then the files: a failure leaves neither.
   const std::string tsv = output::group_tests_tsv(c);
   const std::string json = output::comparison_json(c).dump(1) + "\n";
+  const auto design_files = c.design ? output::design_files(*c.design) : std::vector<output::NamedText>{};
   io::write_file_atomically(dir + "/group_tests.tsv", tsv);
   io::write_file_atomically(dir + "/group_comparison.json", json);
+  for (const auto& [name, text] : design_files) io::write_file_atomically(dir + "/" + name, text);
+  // Without a design, a previous run's design tables would no longer match the comparison.
+  if (!c.design)
+    for (const char* stale : {"/design_tests.tsv", "/design_tests.json"}) std::filesystem::remove(dir + stale);
   return c;
 }
 

@@ -12,6 +12,7 @@
 #include <vector>
 
 #include "base/option_schema.hpp"
+#include "cohort/designs.hpp"
 #include "cohort/statistics.hpp"
 #include "output/subject_record.hpp"
 
@@ -27,6 +28,7 @@ struct CompareOptions {
   std::vector<std::string> cluster_curves{"chi"};
   std::vector<std::string> primary;  // headline summaries, listed first in the table (empty: the first summary)
   Json given = Json::object();       // the options as given (provenance)
+  std::optional<cohort::DesignSpec> design;  // the "design" section: tests written to design_tests.tsv/json
 };
 const OptionSection& compare_option_section();
 CompareOptions parse_compare_options(const Json& options);
@@ -82,6 +84,7 @@ struct Comparison {
   std::vector<std::string> missing;  // listed subjects without a finished result
   std::vector<std::string> warnings;  // e.g. too few null draws for a z-score
   Json provenance;  // config given and resolved, versions, checksums, quality (pipeline/provenance.hpp); null: none
+  std::optional<cohort::DesignResult> design;  // when the options carry a design (core/cohort/designs.hpp)
 };
 
 // The comparison of subjects already read.

@@ -1,6 +1,7 @@
 #include "pipeline/options_catalogue.hpp"
 
 #include "cliques/counts.hpp"
+#include "cohort/designs.hpp"
 #include "cohort/options.hpp"
 #include "connectivity/connect.hpp"
 #include "curvature/on_grid.hpp"
@@ -38,6 +39,7 @@ const std::vector<const OptionSection*>& all_option_sections() {
       &subject_option_section(),
       &cohort_option_section(),
       &compare_option_section(),
+      &cohort::design_option_section(),
       &cohort::permutation_option_section(),
       &cohort::bootstrap_option_section(),
       &cohort::cluster_option_section(),

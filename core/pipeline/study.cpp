@@ -48,17 +48,20 @@ Json write_simulated_study(const Json& options, const std::string& dir) {
   Json model_options = options;
   std::string layout = "tsv";
   BidsStudyOptions bids;
-  bool has_config = false;
+  bool has_config = false, crossover = false;
   Json config = demo_analysis_config();
   {
     Json own = Json::object();
-    for (const char* key : {"config", "layout", "sessions", "block"})
+    for (const char* key : {"config", "layout", "sessions", "block", "design"})
       if (model_options.contains(key)) {
         own[key] = model_options[key];
         model_options.erase(key);
       }
     OptionReader r(own, "simulate options");
     layout = r.choice("layout", "tsv", {"tsv", "bids"});
+    crossover = r.choice("design", "two_groups", {"two_groups", "crossover"}) == "crossover";
+    if (crossover && layout != "tsv")
+      fail(ErrorKind::argument, "simulate options: \"design\": \"crossover\" is written in the tsv layout only");
     if (const Json* c = r.raw("config")) {
       config = *c;
       has_config = true;
@@ -80,6 +83,7 @@ Json write_simulated_study(const Json& options, const std::string& dir) {
     if (!has_config) config["connect"]["clean"] = {{"regressor_columns", Json::array({"motion_*", "white_matter", "csf"})}};
     return write_bids_study(model, bids, config, dir);
   }
+  if (crossover) return write_crossover_study(model, config, dir);
   const auto plan = simulate::plan_cohort(model);
   // TSV files carry no sampling interval; the config does.
   if (config.is_object() && config.contains("connect") && config["connect"].is_object() &&

@@ -15,6 +15,7 @@
 namespace critplex::pipeline {
 
 // options: the cohort model's keys (core/simulate/cohort_model.hpp) plus
+//   "design"   "two_groups" (default) or "crossover" (tsv only; write_crossover_study),
 //   "config"   the subject config to write as cohort_config.json (default: the demo
 //              analysis; for "bids" with motion, white matter and CSF regressors added),
 //   "layout"   "tsv" (default) or "bids",
@@ -31,6 +32,14 @@ Json demo_analysis_config();
 
 // model.json: the model, every subject's drawn parameters and a note that the data are invented.
 Json model_document(const simulate::CohortModel& model, const simulate::CohortPlan& plan);
+
+// The crossover form (tsv layout): the first group's subjects are volunteers scanned in two
+// sessions named after the two groups (e.g. rested, deprived); the second session adds the
+// groups' difference in global_mean to the volunteer's global strength, plus a small
+// day-to-day change. Each session has its own signals (its own seed) and an invented
+// sleepiness rating (1-9). The manifest has subject, session, group ("volunteers"),
+// timeseries, age and sleepiness. Invented data.
+Json write_crossover_study(const simulate::CohortModel& model, Json config, const std::string& dir);
 
 struct BidsStudyOptions {
   std::size_t sessions = 0;  // 0: sub-<label>/func; n: sub-<label>/ses-01..ses-n/func

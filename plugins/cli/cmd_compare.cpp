@@ -2,6 +2,7 @@
 #include <nlohmann/json.hpp>
 
 #include "cli.hpp"
+#include "design_arg.hpp"
 
 namespace critplex_cli {
 namespace {
@@ -34,6 +35,7 @@ nlohmann::json compare_options(const Args& args) {
   if (auto v = args.value("primary")) o["primary"] = name_list(*v);
   if (args.has("seed")) o["seed"] = args.integer("seed", 1);
   if (args.has("resamples")) o["resamples"] = args.integer("resamples", 9999);
+  add_design_options(args, o);
   return o;
 }
 
@@ -59,7 +61,20 @@ int run_compare(const Args& args) {
                 number(t["p_value"], "%.4g").c_str(), number(t["p_adjusted"], "%.4g").c_str());
   }
   std::printf("written: %s/group_comparison.json, %s/group_tests.tsv\n", dir.c_str(), dir.c_str());
+  print_design_tests(doc, dir);
   return 0;
+}
+
+std::vector<Flag> compare_flags() {
+  std::vector<Flag> flags{
+      {"band", "NAME", "which band to compare (default: the first)"},
+      {"covariates", "A,B", "manifest columns regressed out of every summary (e.g. age); with --design, its covariates"},
+      {"primary", "A,B", "headline summaries, first in the table, with their permutation null drawn (e.g. first_chi_zero)"},
+      {"seed", "N", "seed of the Monte Carlo relabellings and bootstrap (default 1)"},
+      {"resamples", "N", "Monte Carlo relabellings when exact enumeration is too large (default 9999)"},
+      {"options", "JSON", "compare options as a JSON object (docs/options.md: compare)"}};
+  for (auto& f : design_flags()) flags.push_back(std::move(f));
+  return flags;
 }
 
 const Registration registration{Command{
@@ -70,12 +85,7 @@ const Registration registration{Command{
     "group_comparison.json and group_tests.tsv there: group mean curves with bootstrap\n"
     "bands, permutation tests of per-subject summaries (Hedges g, Benjamini-Hochberg),\n"
     "cluster permutation tests along the density axis and the null baselines.",
-    {{"band", "NAME", "which band to compare (default: the first)"},
-     {"covariates", "A,B", "manifest columns regressed out of every summary (e.g. age)"},
-     {"primary", "A,B", "headline summaries, first in the table, with their permutation null drawn (e.g. first_chi_zero)"},
-     {"seed", "N", "seed of the Monte Carlo relabellings and bootstrap (default 1)"},
-     {"resamples", "N", "Monte Carlo relabellings when exact enumeration is too large (default 9999)"},
-     {"options", "JSON", "compare options as a JSON object (docs/options.md: compare)"}},
+    compare_flags(),
     1,
     1,
     run_compare}};

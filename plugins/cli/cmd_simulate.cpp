@@ -28,6 +28,7 @@ int run_simulate(const Args& args) {
   }
   if (args.has("sessions")) options["sessions"] = args.integer("sessions", 0);
   if (args.has("block")) options["block"] = args.integer("block", 2);
+  if (auto v = args.value("design")) options["design"] = *v;
   if (args.has("subjects") || args.has("effect")) {
     const long long n = args.integer("subjects", 20);
     const double effect = args.number("effect", 0.25);
@@ -70,6 +71,8 @@ const Registration registration{Command{
      {"layout", "KIND", "tsv (time series tables, default) or bids (images as pipeline derivatives)"},
      {"sessions", "N", "bids: sessions per subject (default 0: no session level)"},
      {"block", "N", "bids: voxels along each side of a region's cube, 1-8 (default 2)"},
+     {"design", "KIND", "two_groups (default) or crossover: the same volunteers rested and after a night without "
+                        "sleep (sessions rested and deprived, a sleepiness rating per session; --subjects volunteers)"},
      {"options", "JSON", "model options as a JSON object (docs/options.md)"}},
     0,
     0,

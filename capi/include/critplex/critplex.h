@@ -386,6 +386,25 @@ CPX_API cpx_status cpx_stats_compare_summaries(const char* input_json, const cha
  * Returns CPX_OK, CPX_ERR_ARGUMENT (NULL quantile, probability outside (0, 1),
  * degrees_of_freedom <= 0). Threads: any thread. Since 0.1. */
 CPX_API cpx_status cpx_stats_t_quantile(double probability, double degrees_of_freedom, double* quantile);
+/* A study design tested per measure by permutation of a linear model (since 0.3).
+ * data_json: {"subject": [...], "session": [...], "group": [...], "columns": {"age": [...],
+ * "site": [...]}, "measures": [{"name", "values": [...]}]} (one entry per subject and
+ * session; session, group and columns optional; null marks a missing value).
+ * design_json: {"design": "two_groups"|"paired"|"groups"|"regression"|"mixed", "within": "session",
+ * "between": "group", "levels": [...], "score": column, "covariates": [columns], "blocks":
+ * column, "permutations": 9999, "seed": 1, "confidence": 0.95, "record_permutations": false}.
+ * paired: sign flips of the per-subject differences (all 2^n when 2^n <= permutations);
+ * two_groups (t), groups (F), regression (t of the slope, Pearson and Spearman r): rows
+ * permuted within blocks (all of them when few enough); mixed: three rows per measure
+ * (term "within": sign flips of the differences; "between", "interaction": whole subjects
+ * permuted). Covariates by Freedman-Lane. Optional "curves" (with "density" in the data):
+ * cluster-mass tests along the density axis ("curve_tests").
+ * Result: {"design", "levels", "tests": [{"measure", "term", "statistic", "value", "df1", "df2",
+ * "p_value", "p_adjusted", "p_parametric", "exact", "null_size", "estimate",
+ * "estimate_interval", "effect", "effect_value", "effect_interval", "spearman_rho",
+ * "spearman_p", ...}], "permutations_used" (with record_permutations)}. Errors name the
+ * key or the missing column. */
+CPX_API cpx_status cpx_stats_design_test(const char* data_json, const char* design_json, char** result_json);
 
 /* cpx_surrogate: A surrogate of `series` (same shape, names and sampling interval). Options:
  * {"method": "phase_multivariate"|"phase_independent"|"iaaft", "seed": 1,

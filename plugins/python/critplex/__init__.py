@@ -17,8 +17,8 @@ from ._library import (ABI_VERSION, AbiMismatch, CritplexError, LibraryNotFound,
 from ._tables import Table
 from ._handles import (Matrix, Series, Sweep, connect, connect_bands, has_pandas, read_image, read_matrix,
                        read_series, sweep)
-from ._study import (CohortRun, Comparison, Report, Study, SubjectBand, SubjectResult, compare, report,
-                     run_cohort, run_subject, simulate_study)
+from ._study import (CohortRun, Comparison, Report, Study, SubjectBand, SubjectResult, compare, design_test,
+                     report, run_cohort, run_subject, simulate_study)
 
 __version__ = "0.2.0"
 
@@ -27,6 +27,7 @@ __all__ = [
     "library_path", "version", "abi_version", "Table", "Series", "Matrix", "Sweep", "read_series", "read_image",
     "read_matrix", "connect", "connect_bands", "sweep", "has_pandas", "SubjectBand", "SubjectResult", "CohortRun",
     "Comparison", "Report", "Study", "run_subject", "run_cohort", "compare", "report", "simulate_study",
+    "design_test",
 ]
 
 

@@ -107,6 +107,7 @@ SIGNATURES = {
     "cpx_subject_run": ([_c.c_char_p, _c.c_char_p, PROGRESS_FN, _P, _OUT], _c.c_int),
     "cpx_cohort_run": ([_c.c_char_p, _c.c_char_p, _c.c_char_p, _c.c_char_p, PROGRESS_FN, _P, _OUT], _c.c_int),
     "cpx_cohort_compare": ([_c.c_char_p, _c.c_char_p, _OUT], _c.c_int),
+    "cpx_stats_design_test": ([_c.c_char_p, _c.c_char_p, _OUT], _c.c_int),
     "cpx_cohort_report": ([_c.c_char_p, _c.c_char_p, _OUT], _c.c_int),
     "cpx_simulate_study": ([_c.c_char_p, _c.c_char_p, _OUT], _c.c_int),
 }

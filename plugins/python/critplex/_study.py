@@ -136,6 +136,20 @@ class Comparison:
         raise KeyError("critplex: no group %r in the comparison (groups: %s)" % (group, ", ".join(self.groups)))
 
     @property
+    def design_tests(self) -> Optional[Table]:
+        """The design tests (one row per summary measure, the columns of
+        ``design_tests.tsv``) when the comparison ran with a ``design``, else None."""
+        path = os.path.join(self.dir, "design_tests.tsv")
+        if "design_tests" not in self.document or not os.path.exists(path):
+            return None
+        return read_tsv_table(path)
+
+    @property
+    def design(self) -> Optional[Dict[str, Any]]:
+        """The design tests as a document (``design``, ``levels``, ``tests``) or None."""
+        return self.document.get("design_tests")
+
+    @property
     def json_path(self) -> str:
         return os.path.join(self.dir, "group_comparison.json")
 
@@ -252,7 +266,11 @@ def compare(results_dir: Union[str, os.PathLike], options: Optional[Mapping[str,
         The folder of a cohort run.
     options : dict, optional
         Compare options: ``band``, ``groups``, ``statistic``, ``covariates``,
-        ``resamples``, ``seed``, ``confidence``, ``cluster_curves``, ...
+        ``resamples``, ``seed``, ``confidence``, ``cluster_curves``, ``design``, ...
+        ``design`` is a study design, e.g. ``{"design": "paired"}``,
+        ``{"design": "groups", "covariates": ["age"], "blocks": "site"}`` or
+        ``{"design": "regression", "score": "sleepiness", "blocks": "subject"}``; its tests
+        are written to ``design_tests.tsv`` and ``design_tests.json``.
     **more
         Further options as keywords (``covariates=["age"]``).
 
@@ -260,7 +278,7 @@ def compare(results_dir: Union[str, os.PathLike], options: Optional[Mapping[str,
     -------
     Comparison
         ``tests`` (the group-test table as a dict of arrays; ``.to_frame()``),
-        ``group_curves(name)`` and ``document``.
+        ``group_curves(name)``, ``document`` and, with a design, ``design_tests``.
     """
     p = ctypes.c_void_p()
     check(library().cpx_cohort_compare(_path(results_dir), options_json(options, **more), ctypes.byref(p)))
@@ -269,6 +287,29 @@ def compare(results_dir: Union[str, os.PathLike], options: Optional[Mapping[str,
     # typed accessor for it yet, and the file defines its columns.
     tests = read_tsv_table(os.path.join(os.fspath(results_dir), "group_tests.tsv"))
     return Comparison(dir=os.fspath(results_dir), tests=tests, document=doc)
+
+
+def design_test(data: Mapping[str, Any], design: Mapping[str, Any]) -> Dict[str, Any]:
+    """A study design tested on values given directly (``cpx_stats_design_test``).
+
+    Parameters
+    ----------
+    data : dict
+        ``{"subject": [...], "session": [...], "group": [...], "columns": {"age": [...]},
+        "measures": [{"name", "values": [...]}]}``, one entry per subject and session
+        (``None`` marks a missing value); optionally ``"density"`` and ``"curves"``.
+    design : dict
+        ``{"design": "two_groups" | "paired" | "groups" | "regression" | "mixed", ...}``
+        (the design options of :func:`compare`).
+
+    Returns
+    -------
+    dict
+        ``{"design", "levels", "notes", "tests": [...], "curve_tests": [...]}``.
+    """
+    p = ctypes.c_void_p()
+    check(library().cpx_stats_design_test(json.dumps(data).encode(), json.dumps(design).encode(), ctypes.byref(p)))
+    return json.loads(take_string(p))
 
 
 def report(results_dir: Union[str, os.PathLike], options: Optional[Mapping[str, Any]] = None, **more: Any) -> Report:
