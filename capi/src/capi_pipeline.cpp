@@ -64,12 +64,7 @@ cpx_status cpx_cohort_report(const char* dir, const char* options_json, char** r
     const std::string out = options.out.empty() ? std::string(dir) + "/report.html" : options.out;
     const std::string& created = options.created;
     const std::string source = std::string(dir) + "/group_comparison.json";
-    Json comparison;
-    try {
-      comparison = Json::parse(io::read_file(source));
-    } catch (const Json::parse_error& e) {
-      fail(ErrorKind::parse, "'" + source + "': not valid JSON (" + e.what() + ")");
-    }
+    const Json comparison = parse_json_text(io::read_file(source), "'" + source + "'", ErrorKind::parse);
     io::write_file_atomically(out, pipeline::report_html(output::read_comparison(comparison, source), created));
     *report_path = copy_string(out);
   });

@@ -46,7 +46,7 @@ std::string finished_fingerprint(const std::string& path) {
   struct stat st;
   if (::stat(path.c_str(), &st) != 0) return "";
   try {
-    Json doc = Json::parse(io::read_file(path));
+    Json doc = parse_json_text(io::read_file(path), path, ErrorKind::parse);
     return doc.at("provenance").at("fingerprint").get<std::string>();
   } catch (const std::exception&) {
     return "";  // unreadable or foreign: recompute

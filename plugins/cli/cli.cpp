@@ -110,6 +110,61 @@ std::string help_text(const Command& command) {
   return s;
 }
 
+namespace {
+std::string shortened(const std::string& text, std::size_t limit = 200) {
+  if (text.size() <= limit) return text;
+  return text.substr(0, limit) + "... (" + std::to_string(text.size()) + " characters)";
+}
+
+void check_json_depth(const std::string& text, const std::string& where, int code) {
+  int depth = 0;
+  bool in_string = false, escaped = false;
+  std::size_t line = 1, column = 0;
+  for (char c : text) {
+    ++column;
+    if (c == '\n') line += 1, column = 0;
+    if (in_string) {
+      if (escaped) escaped = false;
+      else if (c == '\\') escaped = true;
+      else if (c == '"') in_string = false;
+      continue;
+    }
+    if (c == '"') in_string = true;
+    else if (c == '[' || c == '{') {
+      if (++depth > kMaxJsonDepth)
+        throw Failure(where + ": JSON nested deeper than " + std::to_string(kMaxJsonDepth) + " levels at line " +
+                          std::to_string(line) + ", column " + std::to_string(column), code);
+    } else if (c == ']' || c == '}') {
+      --depth;
+    }
+  }
+}
+}  // namespace
+
+nlohmann::json parse_json_input(const std::string& text, const std::string& where, int code) {
+  check_json_depth(text, where, code);
+  std::vector<std::vector<std::string>> keys;  // keys of each open object
+  auto on_event = [&](int, nlohmann::json::parse_event_t event, nlohmann::json& parsed) {
+    using E = nlohmann::json::parse_event_t;
+    if (event == E::object_start) keys.emplace_back();
+    else if (event == E::object_end && !keys.empty()) keys.pop_back();
+    else if (event == E::key && !keys.empty()) {
+      const std::string key = parsed.get<std::string>();
+      for (const auto& k : keys.back())
+        if (k == key) throw Failure(where + ": key \"" + shortened(key) + "\" appears twice in the same JSON object", code);
+      keys.back().push_back(key);
+    }
+    return true;
+  };
+  try {
+    return nlohmann::json::parse(text, on_event);
+  } catch (const nlohmann::json::parse_error& e) {
+    throw Failure(where + ": not valid JSON (" + shortened(e.what()) + ")", code);
+  } catch (const nlohmann::json::out_of_range& e) {  // a number beyond double's range, e.g. 1e400
+    throw Failure(where + ": not usable JSON (" + shortened(e.what()) + ")", code);
+  }
+}
+
 void check(cpx_status status) {
   if (status != CPX_OK) throw Failure(cpx_last_error(), 1);
 }

@@ -3,6 +3,7 @@
 #pragma once
 
 #include <critplex/critplex.h>
+#include <nlohmann/json.hpp>
 
 #include <functional>
 #include <map>
@@ -56,6 +57,13 @@ struct Args {
 // Parses argv after the subcommand; Failure (exit 2) on an unknown flag or missing value.
 Args parse_args(const Command& command, int argc, char** argv);
 std::string help_text(const Command& command);
+
+// Deepest nesting of JSON arrays and objects the command reads (as the library's
+// kMaxJsonDepth): brackets are counted before parsing so hostile text cannot exhaust the stack.
+constexpr int kMaxJsonDepth = 64;
+// Parses JSON text from a flag or a file: Failure (exit `code`) starting with `where` when the
+// text is not JSON, nests deeper than kMaxJsonDepth or holds a key twice in one object.
+nlohmann::json parse_json_input(const std::string& text, const std::string& where, int code = 2);
 
 // Throws Failure with cpx_last_error() when status is not CPX_OK.
 void check(cpx_status status);

@@ -19,11 +19,7 @@ int run_cohort(const Args& args) {
     if (!in) throw Failure("cannot open '" + *path + "'");
     std::ostringstream ss;
     ss << in.rdbuf();
-    try {
-      config = nlohmann::json::parse(ss.str());
-    } catch (const nlohmann::json::parse_error& e) {
-      throw Failure("'" + *path + "': not valid JSON (" + e.what() + ")");
-    }
+    config = parse_json_input(ss.str(), "'" + *path + "'", 1);
   }
   nlohmann::json options = {{"workers", args.integer("workers", 0)}, {"force", args.has("force")}};
 

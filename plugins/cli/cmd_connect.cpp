@@ -48,12 +48,7 @@ nlohmann::json parse_json_flag(const std::string& flag, const std::string& text)
     ss << in.rdbuf();
     body = ss.str();
   }
-  nlohmann::json j;
-  try {
-    j = nlohmann::json::parse(body);
-  } catch (const std::exception& e) {
-    throw Failure("--" + flag + ": not valid JSON: " + e.what(), 2);
-  }
+  nlohmann::json j = parse_json_input(body, "--" + flag);
   if (!j.is_object()) throw Failure("--" + flag + " must be a JSON object", 2);
   return j;
 }

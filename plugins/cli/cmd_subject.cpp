@@ -18,13 +18,9 @@ std::string read_text(const std::string& path) {
 }
 
 nlohmann::json parse_json_arg(const std::string& text, const std::string& what) {
-  try {
-    auto j = nlohmann::json::parse(text);
-    if (!j.is_object()) throw Failure(what + " must be a JSON object", 2);
-    return j;
-  } catch (const nlohmann::json::parse_error& e) {
-    throw Failure(what + ": not valid JSON (" + e.what() + ")", 2);
-  }
+  auto j = parse_json_input(text, what);
+  if (!j.is_object()) throw Failure(what + " must be a JSON object", 2);
+  return j;
 }
 
 int run_subject(const Args& args) {

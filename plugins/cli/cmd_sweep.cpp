@@ -16,11 +16,7 @@ int run_sweep(const Args& args) {
 
   nlohmann::json options = nlohmann::json::object();
   if (auto opts = args.value("options")) {
-    try {
-      options = nlohmann::json::parse(*opts);
-    } catch (const std::exception& e) {
-      throw Failure(std::string("--options: not valid JSON: ") + e.what(), 2);
-    }
+    options = parse_json_input(*opts, "--options");
     if (!options.is_object()) throw Failure("--options must be a JSON object", 2);
   }
   if (args.has("max-density")) options["max_density"] = args.number("max-density", 1.0);
