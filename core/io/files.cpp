@@ -1,12 +1,17 @@
 #include "io/files.hpp"
 
+#include <fcntl.h>
+#include <signal.h>
+#include <sys/stat.h>
 #include <unistd.h>
 
 #include <algorithm>
+#include <atomic>
 #include <cerrno>
 #include <charconv>
 #include <cmath>
 #include <cstdio>
+#include <cstdlib>
 #include <cstring>
 #include <filesystem>
 #include <fstream>
@@ -26,27 +31,140 @@ std::string read_file(const std::string& path) {
   return ss.str();
 }
 
-void write_file_atomically(const std::string& path, const std::string& bytes) {
-  if (path.empty()) fail(ErrorKind::argument, "output path is empty");
-  const std::string tmp = path + ".tmp-" + std::to_string(::getpid()) + "-" +
-                          std::to_string(reinterpret_cast<std::uintptr_t>(&bytes) & 0xffff);
-  std::FILE* f = std::fopen(tmp.c_str(), "wb");
-  if (f == nullptr) fail(ErrorKind::io, "cannot write '" + path + "': " + std::strerror(errno));
-  bool ok = std::fwrite(bytes.data(), 1, bytes.size(), f) == bytes.size();
-  ok = (std::fflush(f) == 0) && ok;
-  ok = (std::fclose(f) == 0) && ok;
-  if (!ok) {
-    std::remove(tmp.c_str());
-    fail(ErrorKind::io, "cannot write '" + path + "': write failed (disk full?)");
+// ------------------------------------------------------------------ safe output
+
+namespace {
+
+// Temporaries being written right now, for removal from a signal handler: a fixed table
+// of C strings and atomic states (0 free, 1 being filled, 2 ready), nothing allocated.
+constexpr int kTemporarySlots = 64;
+constexpr std::size_t kTemporaryPathMax = 4096;
+char temporary_paths[kTemporarySlots][kTemporaryPathMax];
+std::atomic<int> temporary_states[kTemporarySlots];
+std::atomic<unsigned> temporary_counter{0};
+
+static_assert(std::atomic<int>::is_always_lock_free, "signal handlers need lock-free atomics");
+
+int register_temporary(const std::string& tmp) {
+  if (tmp.size() + 1 > kTemporaryPathMax) return -1;
+  for (int i = 0; i < kTemporarySlots; ++i) {
+    int expected = 0;
+    if (temporary_states[i].compare_exchange_strong(expected, 1)) {
+      std::memcpy(temporary_paths[i], tmp.c_str(), tmp.size() + 1);
+      temporary_states[i].store(2);
+      return i;
+    }
   }
-  if (std::rename(tmp.c_str(), path.c_str()) != 0) {
-    int e = errno;
-    std::remove(tmp.c_str());
-    fail(ErrorKind::io, "cannot write '" + path + "': " + std::strerror(e));
+  return -1;  // table full: the file is still written safely, only not removed on a signal
+}
+
+void release_temporary(int slot) {
+  if (slot >= 0) temporary_states[slot].store(0);
+}
+
+std::string folder_of(const std::string& path) {
+  const auto slash = path.find_last_of('/');
+  if (slash == std::string::npos) return ".";
+  return slash == 0 ? "/" : path.substr(0, slash);
+}
+
+// Leftovers "<name>.tmp-<pid>-<n>" of a process that no longer runs (killed hard) are removed.
+void remove_stale_temporaries(const std::string& path) {
+  const std::string folder = folder_of(path);
+  const std::string prefix = path.substr(path.find_last_of('/') == std::string::npos ? 0 : path.find_last_of('/') + 1) + ".tmp-";
+  std::error_code ec;
+  for (std::filesystem::directory_iterator it(folder, ec), end; !ec && it != end; it.increment(ec)) {
+    const std::string name = it->path().filename().string();
+    if (name.compare(0, prefix.size(), prefix) != 0) continue;
+    const std::string rest = name.substr(prefix.size());
+    const auto dash = rest.find('-');
+    if (dash == std::string::npos || dash == 0 || rest.find_first_not_of("0123456789-") != std::string::npos) continue;
+    const long pid = std::strtol(rest.substr(0, dash).c_str(), nullptr, 10);
+    if (pid > 0 && ::kill(static_cast<pid_t>(pid), 0) != 0 && errno == ESRCH) ::unlink(it->path().c_str());
   }
 }
 
+// The file a write to `path` replaces: a symlink is followed (the target is replaced and the
+// link stays); a folder, FIFO, device or socket is refused; missing folders are created.
+std::string resolve_output(const std::string& path) {
+  struct stat st;
+  std::string target = path;
+  if (::lstat(path.c_str(), &st) == 0 && S_ISLNK(st.st_mode)) {
+    std::error_code ec;
+    target = std::filesystem::canonical(path, ec).string();
+    if (ec) fail(ErrorKind::io, "cannot write '" + path + "': it is a symbolic link to a missing file or folder");
+  }
+  if (::stat(target.c_str(), &st) == 0) {
+    if (S_ISDIR(st.st_mode)) fail(ErrorKind::io, "cannot write '" + path + "': it is a folder");
+    if (!S_ISREG(st.st_mode))
+      fail(ErrorKind::io, "cannot write '" + path + "': not a regular file (a FIFO, device or socket); only regular files are written");
+    return target;
+  }
+  make_folders(folder_of(target));
+  return target;
+}
+
+void write_all(int fd, const std::string& bytes, const std::string& path, const std::string& tmp, int slot) {
+  std::size_t done = 0;
+  while (done < bytes.size()) {
+    const ssize_t n = ::write(fd, bytes.data() + done, bytes.size() - done);
+    if (n < 0 && errno == EINTR) continue;
+    if (n <= 0) {
+      const int e = errno;
+      ::close(fd);
+      ::unlink(tmp.c_str());
+      release_temporary(slot);
+      fail(ErrorKind::io, "cannot write '" + path + "': " + std::strerror(e));
+    }
+    done += static_cast<std::size_t>(n);
+  }
+}
+
+}  // namespace
+
+void remove_temporaries_now() noexcept {
+  for (int i = 0; i < kTemporarySlots; ++i)
+    if (temporary_states[i].load() == 2) ::unlink(temporary_paths[i]);
+}
+
+void write_file_atomically(const std::string& path, const std::string& bytes) {
+  if (path.empty()) fail(ErrorKind::argument, "output path is empty");
+  const std::string target = resolve_output(path);
+  remove_stale_temporaries(target);
+  const std::string tmp = target + ".tmp-" + std::to_string(::getpid()) + "-" + std::to_string(temporary_counter++);
+  const int slot = register_temporary(tmp);
+  // O_EXCL: never write through a file or link someone planted under the temporary's name.
+  const int fd = ::open(tmp.c_str(), O_WRONLY | O_CREAT | O_EXCL | O_CLOEXEC, 0666);
+  if (fd < 0) {
+    const int e = errno;
+    release_temporary(slot);
+    fail(ErrorKind::io, "cannot write '" + path + "': " + std::strerror(e));
+  }
+  write_all(fd, bytes, path, tmp, slot);
+  if (::close(fd) != 0) {
+    const int e = errno;
+    ::unlink(tmp.c_str());
+    release_temporary(slot);
+    fail(ErrorKind::io, "cannot write '" + path + "': " + std::strerror(e));
+  }
+  if (std::rename(tmp.c_str(), target.c_str()) != 0) {
+    const int e = errno;
+    ::unlink(tmp.c_str());
+    release_temporary(slot);
+    fail(ErrorKind::io, "cannot write '" + path + "': rename of the temporary file failed: " + std::strerror(e));
+  }
+  release_temporary(slot);
+}
+
 void make_folders(const std::string& dir) {
+  struct stat st;
+  // A path component that is a file: say so instead of "Not a directory".
+  for (std::size_t pos = dir.find('/', 1); ; pos = dir.find('/', pos + 1)) {
+    const std::string prefix = dir.substr(0, pos);
+    if (::stat(prefix.c_str(), &st) == 0 && !S_ISDIR(st.st_mode))
+      fail(ErrorKind::io, "cannot create folder '" + dir + "': '" + prefix + "' is a file, not a folder");
+    if (pos == std::string::npos) break;
+  }
   std::error_code ec;
   std::filesystem::create_directories(dir, ec);
   if (ec) fail(ErrorKind::io, "cannot create folder '" + dir + "': " + ec.message());

@@ -15,11 +15,18 @@ namespace critplex::io {
 
 // Whole file as bytes; ErrorKind::io naming the path when it cannot be read.
 std::string read_file(const std::string& path);
-// Writes through a temporary file in the same folder, renamed into place, so a reader
-// never sees a half-written file and a failure leaves nothing behind.
+// Writes through a temporary file "<path>.tmp-<pid>-<n>" in the same folder, renamed into
+// place, so a reader never sees a half-written file and a failure leaves nothing behind.
+// Rules: missing folders are created; a symbolic link is followed (the file it points to
+// is replaced, the link stays); a folder, FIFO, device or socket is refused (only regular
+// files are written); temporaries of processes that no longer run are removed first.
 void write_file_atomically(const std::string& path, const std::string& bytes);
-// Creates a folder and its parents (nothing if it exists); ErrorKind::io naming it.
+// Creates a folder and its parents (nothing if it exists); ErrorKind::io naming it, and
+// naming a part of the path that is a file.
 void make_folders(const std::string& dir);
+// Unlinks every temporary file being written at this moment. Async-signal-safe (a fixed
+// table of C strings, unlink only): for SIGINT/SIGTERM handlers.
+void remove_temporaries_now() noexcept;
 
 // A numeric table from TSV, CSV, whitespace-separated text or NPY.
 struct Table {

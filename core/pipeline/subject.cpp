@@ -186,6 +186,7 @@ std::vector<std::string> write_subject_outputs(const SubjectResult& r, const std
   // Everything is serialised first: a value that cannot be written fails before any file
   // exists. The document goes last: its presence marks a finished subject.
   const std::vector<output::NamedText> files = output::subject_files(r);
+  io::make_folders(out_dir);  // created when missing; a file of that name is refused
   std::vector<std::string> written;
   for (const auto& f : files) {
     io::write_file_atomically(out_dir + "/" + f.name, f.text);

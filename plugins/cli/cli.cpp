@@ -1,12 +1,18 @@
 #include "cli.hpp"
 
+#include <fcntl.h>
+#include <signal.h>
+#include <sys/stat.h>
 #include <unistd.h>
 
+#include <cerrno>
 #include <chrono>
 #include <cmath>
+#include <csignal>
 #include <cstdio>
+#include <cstring>
+#include <filesystem>
 #include <fstream>
-#include <sys/stat.h>
 
 namespace critplex_cli {
 
@@ -174,23 +180,109 @@ bool path_exists(const std::string& path) {
   return ::stat(path.c_str(), &st) == 0;
 }
 
-void write_file_atomically(const std::string& path, const std::string& text) {
-  const std::string tmp = path + ".tmp-" + std::to_string(::getpid());
-  {
-    std::ofstream out(tmp, std::ios::binary | std::ios::trunc);
-    if (!out) throw Failure("cannot write '" + path + "': cannot create a file there");
-    out << text;
-    out.flush();
-    if (!out) {
-      out.close();
-      std::remove(tmp.c_str());
-      throw Failure("cannot write '" + path + "': write failed (disk full?)");
+namespace {
+// The command's own temporary (text outputs written here, not by the library), for the
+// signal handler: one C string and a flag, nothing allocated in the handler.
+char current_temporary[4096];
+volatile std::sig_atomic_t has_temporary = 0;
+
+void on_interrupt(int signal_number) {
+  cpx_remove_partial_files();
+  if (has_temporary) ::unlink(current_temporary);
+  ::signal(signal_number, SIG_DFL);
+  ::raise(signal_number);
+}
+
+std::string folder_of(const std::string& path) {
+  const auto slash = path.find_last_of('/');
+  if (slash == std::string::npos) return ".";
+  return slash == 0 ? "/" : path.substr(0, slash);
+}
+
+void make_folders(const std::string& dir) {
+  struct stat st;
+  for (std::size_t pos = dir.find('/', 1);; pos = dir.find('/', pos + 1)) {
+    const std::string prefix = dir.substr(0, pos);
+    if (::stat(prefix.c_str(), &st) == 0 && !S_ISDIR(st.st_mode))
+      throw Failure("cannot create folder '" + dir + "': '" + prefix + "' is a file, not a folder");
+    if (pos == std::string::npos) break;
+  }
+  std::error_code ec;
+  std::filesystem::create_directories(dir, ec);
+  if (ec) throw Failure("cannot create folder '" + dir + "': " + ec.message());
+}
+}  // namespace
+
+void install_interrupt_cleanup() {
+  struct sigaction action {};
+  action.sa_handler = on_interrupt;
+  sigemptyset(&action.sa_mask);
+  ::sigaction(SIGINT, &action, nullptr);
+  ::sigaction(SIGTERM, &action, nullptr);
+}
+
+std::string output_target(const std::string& path) {
+  struct stat st;
+  std::string target = path;
+  if (::lstat(path.c_str(), &st) == 0 && S_ISLNK(st.st_mode)) {
+    std::error_code ec;
+    target = std::filesystem::canonical(path, ec).string();
+    if (ec) throw Failure("cannot write '" + path + "': it is a symbolic link to a missing file or folder");
+  }
+  if (::stat(target.c_str(), &st) == 0) {
+    if (S_ISDIR(st.st_mode)) throw Failure("cannot write '" + path + "': it is a folder");
+    if (!S_ISREG(st.st_mode))
+      throw Failure("cannot write '" + path + "': not a regular file (a FIFO, device or socket); only regular files are written");
+  } else {
+    make_folders(folder_of(target));
+  }
+  return target;
+}
+
+void refuse_overwriting_inputs(const std::vector<std::string>& inputs, const std::vector<std::string>& outputs) {
+  for (const auto& out : outputs) {
+    struct stat o;
+    if (::stat(out.c_str(), &o) != 0) continue;  // a new file cannot be an input
+    for (const auto& in : inputs) {
+      struct stat i;
+      if (!in.empty() && ::stat(in.c_str(), &i) == 0 && i.st_dev == o.st_dev && i.st_ino == o.st_ino)
+        throw Failure("output '" + out + "' is the input '" + in + "' of this run; choose another output name", 2);
     }
   }
-  if (std::rename(tmp.c_str(), path.c_str()) != 0) {
-    std::remove(tmp.c_str());
-    throw Failure("cannot write '" + path + "': rename failed");
+}
+
+void write_file_atomically(const std::string& path, const std::string& text) {
+  const std::string target = output_target(path);
+  const std::string tmp = target + ".tmp-" + std::to_string(::getpid()) + "-0";
+  const bool tracked = tmp.size() < sizeof current_temporary;
+  if (tracked) {
+    std::memcpy(current_temporary, tmp.c_str(), tmp.size() + 1);
+    has_temporary = 1;
   }
+  auto give_up = [&](const std::string& why, int error) {
+    ::unlink(tmp.c_str());
+    has_temporary = 0;
+    throw Failure("cannot write '" + path + "': " + why + std::strerror(error));
+  };
+  const int fd = ::open(tmp.c_str(), O_WRONLY | O_CREAT | O_EXCL | O_CLOEXEC, 0666);
+  if (fd < 0) {
+    const int e = errno;
+    has_temporary = 0;
+    throw Failure("cannot write '" + path + "': " + std::strerror(e));
+  }
+  for (std::size_t done = 0; done < text.size();) {
+    const ssize_t n = ::write(fd, text.data() + done, text.size() - done);
+    if (n < 0 && errno == EINTR) continue;
+    if (n <= 0) {
+      const int e = errno;
+      ::close(fd);
+      give_up("", e);
+    }
+    done += static_cast<std::size_t>(n);
+  }
+  if (::close(fd) != 0) give_up("", errno);
+  if (std::rename(tmp.c_str(), target.c_str()) != 0) give_up("rename of the temporary file failed: ", errno);
+  has_temporary = 0;
 }
 
 std::string output_format(const Args& args, const std::string& out_path, const std::vector<std::string>& allowed) {

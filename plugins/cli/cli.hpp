@@ -68,8 +68,19 @@ nlohmann::json parse_json_input(const std::string& text, const std::string& wher
 // Throws Failure with cpx_last_error() when status is not CPX_OK.
 void check(cpx_status status);
 
-// Writes text to path through a temporary file in the same folder, renamed into place.
+// Writes text to path through a temporary file in the same folder, renamed into place, with
+// the library's rules: missing folders created, a symbolic link followed (its target is
+// replaced), a folder, FIFO, device or socket refused.
 void write_file_atomically(const std::string& path, const std::string& text);
+// The file an output path names after following a symbolic link; Failure for a folder, FIFO,
+// device or socket; creates missing folders.
+std::string output_target(const std::string& path);
+// Failure (exit 2) when an existing output is one of the inputs (same device and inode, so
+// links and other spellings of the path are caught).
+void refuse_overwriting_inputs(const std::vector<std::string>& inputs, const std::vector<std::string>& outputs);
+// SIGINT/SIGTERM: remove the temporaries being written (library and command), then end
+// with the signal's default action.
+void install_interrupt_cleanup();
 // Folder of a path (".", when none), and whether a path exists.
 bool path_exists(const std::string& path);
 

@@ -43,7 +43,6 @@ int run_subject(const Args& args) {
   if (auto v = args.value("connect")) config["connect"] = parse_json_arg(*v, "--connect");
   if (auto v = args.value("sweep")) config["sweep"] = parse_json_arg(*v, "--sweep");
   if (auto v = args.value("null")) config["null"] = nlohmann::json{{"model", *v}};
-  if (!path_exists(*out)) throw Failure("output folder '" + *out + "' does not exist");
 
   void* bar = progress_state("subject");
   char* doc = nullptr;
@@ -64,7 +63,7 @@ const Registration registration{Command{
     "CONFIG.json holds the subject config (README: subject config); flags override its\n"
     "keys. Writes sub-<id>_topology.json (everything, with provenance) and TSV twins\n"
     "(connectivity, curves, transitions) into DIR, each file atomically.",
-    {{"out", "DIR", "output folder (required, must exist)"},
+    {{"out", "DIR", "output folder (required; created when missing)"},
      {"id", "ID", "subject id (letters, digits, '-', '.')"},
      {"group", "NAME", "group label carried into the outputs"},
      {"timeseries", "FILE", "regional time series (TSV, CSV, text or NPY)"},

@@ -71,6 +71,10 @@ int run_sweep(const Args& args) {
     transitions_tsv = summary;
     cpx_string_free(summary);
   }
+  std::vector<std::string> outputs{*out};
+  if (transitions_out) outputs.push_back(*transitions_out);
+  refuse_overwriting_inputs({input}, outputs);
+  for (const auto& o : outputs) output_target(o);  // both refused or fine before either is written
   write_file_atomically(*out, body);
   if (transitions_out) write_file_atomically(*transitions_out, transitions_tsv);
   return 0;

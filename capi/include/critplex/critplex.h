@@ -84,6 +84,11 @@ CPX_API const char* cpx_last_error(void);
 CPX_API const char* cpx_status_name(cpx_status status);
 /* Releases a string the library allocated; NULL is allowed. */
 CPX_API void cpx_string_free(char* text);
+/* Deletes the temporary files the library is writing at this moment (every output is
+ * written as "<path>.tmp-<pid>-<n>" and renamed into place). Async-signal-safe: meant for a
+ * SIGINT/SIGTERM handler of the host, which then ends the process (the interrupted calls
+ * must not continue). Outputs already renamed into place stay. Since 0.2. */
+CPX_API void cpx_remove_partial_files(void);
 
 /* ------------------------------------------------------------------------------------ */
 /* Time series: T frames (rows) by N regions (columns)                                   */
