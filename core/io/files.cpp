@@ -15,14 +15,20 @@
 #include <cstring>
 #include <filesystem>
 #include <fstream>
+#include <map>
 #include <sstream>
 
 #include "base/error.hpp"
 #include "base/options.hpp"
+#include "io/image_file.hpp"
+#include "io/xml.hpp"
 
 namespace critplex::io {
 
 std::string read_file(const std::string& path) {
+  struct stat st;
+  if (::stat(path.c_str(), &st) == 0 && S_ISDIR(st.st_mode))
+    fail(ErrorKind::io, "cannot read '" + path + "': it is a folder, not a file");
   std::ifstream in(path, std::ios::binary);
   if (!in) fail(ErrorKind::io, "cannot open '" + path + "': " + std::strerror(errno));
   std::ostringstream ss;
@@ -229,8 +235,39 @@ bool parse_number(const std::string& cell, double& out) {
 
 std::string column_label(std::size_t column, const std::vector<std::string>& names) {
   std::string s = "column " + std::to_string(column + 1);
-  if (column < names.size() && !names[column].empty()) s += " ('" + names[column] + "')";
+  if (column < names.size() && !names[column].empty() && is_utf8(names[column])) s += " (" + excerpt(names[column]) + ")";
   return s;
+}
+
+// A whole number of an NPY shape: digits only, and at most 2^62 (so products are checked).
+std::size_t npy_dimension(const std::string& text, const std::string& path) {
+  std::size_t value = 0;
+  auto [ptr, ec] = std::from_chars(text.data(), text.data() + text.size(), value);
+  if (ec != std::errc() || ptr != text.data() + text.size() || value > (std::size_t{1} << 62))
+    fail(ErrorKind::parse, "'" + path + "': malformed NPY header (shape entry " + excerpt(text) + " is not a size)");
+  return value;
+}
+
+// Region names from a header row (one line, several columns) or from the first column
+// (one per line): valid UTF-8 without control characters, and each name once.
+void check_names(const std::string& path, const std::vector<std::string>& names, std::size_t header_line,
+                 const std::vector<std::size_t>& row_lines) {
+  auto place = [&](std::size_t i) {
+    return header_line > 0 ? "'" + path + "', line " + std::to_string(header_line) + ", column " + std::to_string(i + 1)
+                           : "'" + path + "', line " + std::to_string(row_lines[i]);
+  };
+  std::map<std::string, std::size_t> seen;
+  for (std::size_t i = 0; i < names.size(); ++i) {
+    if (names[i].empty()) continue;  // replaced by a default name
+    check_region_name(names[i], place(i));
+    auto [it, fresh] = seen.emplace(names[i], i);
+    if (fresh) continue;
+    if (header_line > 0)
+      fail(ErrorKind::data, "'" + path + "', line " + std::to_string(header_line) + ": region name " + excerpt(names[i]) +
+                                " appears twice (columns " + std::to_string(it->second + 1) + " and " + std::to_string(i + 1) + ")");
+    fail(ErrorKind::data, "'" + path + "': region name " + excerpt(names[i]) + " appears twice (lines " +
+                              std::to_string(row_lines[it->second]) + " and " + std::to_string(row_lines[i]) + ")");
+  }
 }
 
 Table read_text_table(const std::string& path, const std::string& bytes, char separator, const TableOptions& opt) {
@@ -274,6 +311,7 @@ Table read_text_table(const std::string& path, const std::string& bytes, char se
   }
   std::size_t first = header ? 1 : 0;
   if (header) t.column_names = rows[0];
+  if (header) t.header_line = lines[0].first;
   if (rows.size() <= first) fail(ErrorKind::parse, "'" + path + "' has a header row but no data rows");
 
   bool row_names = false;
@@ -305,6 +343,7 @@ Table read_text_table(const std::string& path, const std::string& bytes, char se
       fail(ErrorKind::parse, "'" + path + "', line " + std::to_string(line_no) + ": expected " + std::to_string(width) +
                                  " cells, found " + std::to_string(cells.size()) + " (ragged row)");
     if (row_names) t.row_names.push_back(cells[0]);
+    t.row_lines.push_back(line_no);
     for (std::size_t c = 0; c < columns; ++c) {
       const std::string& cell = cells[c + offset];
       double d;
@@ -313,10 +352,10 @@ Table read_text_table(const std::string& path, const std::string& bytes, char se
           d = std::numeric_limits<double>::quiet_NaN();
         else
           fail(ErrorKind::parse, "'" + path + "', line " + std::to_string(line_no) + ", " +
-                                     column_label(c, t.column_names) + ": '" + cell + "' is not a number");
+                                     column_label(c, t.column_names) + ": " + excerpt(cell) + " is not a number");
       } else if (!std::isfinite(d)) {
         fail(ErrorKind::data, "'" + path + "', line " + std::to_string(line_no) + ", " +
-                                  column_label(c, t.column_names) + ": value '" + cell + "' is not finite");
+                                  column_label(c, t.column_names) + ": value " + excerpt(cell) + " is not finite");
       }
       t.values(static_cast<Eigen::Index>(r - first), static_cast<Eigen::Index>(c)) = d;
     }
@@ -377,7 +416,8 @@ Table read_npy_table(const std::string& path, const std::string& bytes) {
     while (std::getline(ss, part, ',')) {
       auto b = part.find_first_not_of(' ');
       if (b == std::string::npos) continue;
-      dims.push_back(static_cast<std::size_t>(std::stoull(part.substr(b))));
+      auto e = part.find_last_not_of(' ');
+      dims.push_back(npy_dimension(part.substr(b, e - b + 1), path));
     }
   }
   if (dims.size() != 2) bad("expected a 2-D array (time points x regions), got " + std::to_string(dims.size()) + " dimensions");
@@ -441,6 +481,7 @@ static TableOptions table_options(const nlohmann::json& options, const std::stri
 series::Series read_series(const std::string& path, const nlohmann::json& options) {
   TableOptions opt = table_options(options, "time series options");
   Table t = read_table(path, opt);
+  check_names(path, t.column_names, t.header_line, t.row_lines);
   series::Series s;
   s.source = path;
   s.values = std::move(t.values);
@@ -462,6 +503,8 @@ connectivity::Matrix read_matrix(const std::string& path, const nlohmann::json& 
   if (t.values.rows() < 2) fail(ErrorKind::data, "'" + path + "': matrix needs at least 2 nodes");
   m.values = std::move(t.values);
   const auto n = static_cast<std::size_t>(m.values.rows());
+  if (!t.column_names.empty()) check_names(path, t.column_names, t.header_line, t.row_lines);
+  else if (!t.row_names.empty()) check_names(path, t.row_names, 0, t.row_lines);
   m.names = !t.column_names.empty() ? t.column_names : !t.row_names.empty() ? t.row_names : series::default_names(n);
   // Symmetry is checked here so the message can name the file.
   double scale = m.values.cwiseAbs().maxCoeff();

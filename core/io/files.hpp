@@ -13,7 +13,7 @@
 
 namespace critplex::io {
 
-// Whole file as bytes; ErrorKind::io naming the path when it cannot be read.
+// Whole file as bytes; ErrorKind::io naming the path when it cannot be read or is a folder.
 std::string read_file(const std::string& path);
 // Writes through a temporary file "<path>.tmp-<pid>-<n>" in the same folder, renamed into
 // place, so a reader never sees a half-written file and a failure leaves nothing behind.
@@ -34,6 +34,8 @@ struct Table {
   std::vector<std::string> column_names;  // empty when the file had no header row
   std::vector<std::string> row_names;     // empty unless the first column held names
   std::size_t first_data_line = 1;        // 1-based line of the first data row (text files)
+  std::size_t header_line = 0;            // 1-based line of the header row (0: none)
+  std::vector<std::size_t> row_lines;     // 1-based line of each data row (text files)
 };
 
 struct TableOptions {

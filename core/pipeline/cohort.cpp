@@ -63,7 +63,8 @@ void limit_threads(SweepOptions& sweep, int budget) {
 }  // namespace
 
 std::vector<ManifestRow> read_manifest(const std::string& path) {
-  const std::string text = io::read_file(path);
+  std::string text = io::read_file(path);
+  if (text.rfind("\xEF\xBB\xBF", 0) == 0) text.erase(0, 3);  // a UTF-8 byte-order mark (spreadsheet exports)
   const std::string base = folder_of(path);
   std::vector<ManifestRow> rows;
   std::vector<std::string> header;
@@ -79,6 +80,11 @@ std::vector<ManifestRow> read_manifest(const std::string& path) {
     auto cells = split_tabs(line);
     if (header.empty()) {
       header = cells;
+      for (std::size_t c = 0; c < header.size(); ++c)
+        for (std::size_t d = 0; d < c; ++d)
+          if (header[c] == header[d])
+            fail(ErrorKind::parse, "'" + path + "', line " + std::to_string(line_no) + ": column \"" + header[c] +
+                                       "\" appears twice (columns " + std::to_string(d + 1) + " and " + std::to_string(c + 1) + ")");
       auto has = [&](const char* name) { return std::find(header.begin(), header.end(), name) != header.end(); };
       if (!has("subject") || !has("group"))
         fail(ErrorKind::parse, "'" + path + "', line " + std::to_string(line_no) +
