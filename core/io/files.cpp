@@ -30,7 +30,7 @@ std::string read_file(const std::string& path) {
   if (::stat(path.c_str(), &st) == 0 && S_ISDIR(st.st_mode))
     fail(ErrorKind::io, "cannot read '" + path + "': it is a folder, not a file");
   std::ifstream in(path, std::ios::binary);
-  if (!in) fail(ErrorKind::io, "cannot open '" + path + "': " + std::strerror(errno));
+  if (!in) fail(ErrorKind::io, "cannot open '" + path + "': " + system_error_text(errno));
   std::ostringstream ss;
   ss << in.rdbuf();
   if (in.bad()) fail(ErrorKind::io, "cannot read '" + path + "'");
@@ -120,7 +120,7 @@ void write_all(int fd, const std::string& bytes, const std::string& path, const 
       ::close(fd);
       ::unlink(tmp.c_str());
       release_temporary(slot);
-      fail(ErrorKind::io, "cannot write '" + path + "': " + std::strerror(e));
+      fail(ErrorKind::io, "cannot write '" + path + "': " + system_error_text(e));
     }
     done += static_cast<std::size_t>(n);
   }
@@ -144,20 +144,20 @@ void write_file_atomically(const std::string& path, const std::string& bytes) {
   if (fd < 0) {
     const int e = errno;
     release_temporary(slot);
-    fail(ErrorKind::io, "cannot write '" + path + "': " + std::strerror(e));
+    fail(ErrorKind::io, "cannot write '" + path + "': " + system_error_text(e));
   }
   write_all(fd, bytes, path, tmp, slot);
   if (::close(fd) != 0) {
     const int e = errno;
     ::unlink(tmp.c_str());
     release_temporary(slot);
-    fail(ErrorKind::io, "cannot write '" + path + "': " + std::strerror(e));
+    fail(ErrorKind::io, "cannot write '" + path + "': " + system_error_text(e));
   }
   if (std::rename(tmp.c_str(), target.c_str()) != 0) {
     const int e = errno;
     ::unlink(tmp.c_str());
     release_temporary(slot);
-    fail(ErrorKind::io, "cannot write '" + path + "': rename of the temporary file failed: " + std::strerror(e));
+    fail(ErrorKind::io, "cannot write '" + path + "': rename of the temporary file failed: " + system_error_text(e));
   }
   release_temporary(slot);
 }
