@@ -306,6 +306,7 @@ struct BarState {
   std::string label;
   std::chrono::steady_clock::time_point start = std::chrono::steady_clock::now();
   int last_permille = -1;
+  bool eta = false;
 };
 
 int draw_bar(double fraction, void* user) {
@@ -320,7 +321,7 @@ int draw_bar(double fraction, void* user) {
   std::string bar(static_cast<std::size_t>(filled), '#');
   bar.resize(width, '.');
   char eta[32] = "";
-  if (fraction > 0.01 && fraction < 1.0) std::snprintf(eta, sizeof eta, " eta %.0fs", elapsed * (1.0 - fraction) / fraction);
+  if (st->eta && fraction > 0.01 && fraction < 1.0) std::snprintf(eta, sizeof eta, " eta %.0fs", elapsed * (1.0 - fraction) / fraction);
   std::fprintf(stderr, "\r%s [%s] %5.1f%%%s   ", st->label.c_str(), bar.c_str(), permille / 10.0, eta);
   std::fflush(stderr);
   return 0;
@@ -328,10 +329,11 @@ int draw_bar(double fraction, void* user) {
 }  // namespace
 
 cpx_progress_fn progress_bar_if_terminal() { return ::isatty(2) ? draw_bar : nullptr; }
-void* progress_state(const std::string& label) {
+void* progress_state(const std::string& label, bool eta) {
   if (!::isatty(2)) return nullptr;
   auto* st = new BarState;
   st->label = label;
+  st->eta = eta;
   return st;
 }
 void progress_done(void* state) {

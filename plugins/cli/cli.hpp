@@ -90,7 +90,10 @@ std::string output_format(const Args& args, const std::string& out_path,
 
 // A progress callback drawing a bar on stderr when stderr is a terminal (else NULL).
 cpx_progress_fn progress_bar_if_terminal();
-void* progress_state(const std::string& label);
+// `eta`: show a remaining-time estimate. Only where the fraction measures work done (the
+// cohort: finished subjects); a sweep's fraction counts grid points, whose cost grows
+// steeply with density, so an estimate from it would mislead and none is shown.
+void* progress_state(const std::string& label, bool eta = false);
 void progress_done(void* state);
 
 }  // namespace critplex_cli

@@ -23,7 +23,7 @@ int run_cohort(const Args& args) {
   }
   nlohmann::json options = {{"workers", args.integer("workers", 0)}, {"force", args.has("force")}};
 
-  void* bar = progress_state("cohort");
+  void* bar = progress_state("cohort", true);
   char* summary_text = nullptr;
   cpx_status status = cpx_cohort_run(manifest.c_str(), config.dump().c_str(), out->c_str(), options.dump().c_str(),
                                      progress_bar_if_terminal(), bar, &summary_text);
