@@ -186,6 +186,17 @@ CohortSummary run_cohort(const std::string& manifest_path, const Json& config, c
     }
     if (!row.confounds.empty()) c["confounds"] = row.confounds;
     c["covariates"] = row.covariates;
+    // Input files named by the manifest must be readable files before any subject runs.
+    for (const std::string* file : {&row.timeseries, &row.image, &row.labels, &row.label_names, &row.confounds}) {
+      struct stat st;
+      if (file->empty()) continue;
+      if (::stat(file->c_str(), &st) != 0)
+        fail(ErrorKind::io, "'" + manifest_path + "', line " + std::to_string(row.line) + " (subject " + row.subject +
+                                "): cannot open '" + *file + "': " + system_error_text(errno));
+      if (S_ISDIR(st.st_mode))
+        fail(ErrorKind::io, "'" + manifest_path + "', line " + std::to_string(row.line) + " (subject " + row.subject +
+                                "): '" + *file + "' is a folder, not a file");
+    }
     try {
       configs.push_back(parse_subject_config(c, ""));
     } catch (const Error& e) {
