@@ -34,3 +34,6 @@ capi_targets="$(for f in tests/capi/*.c; do printf 'capi_%s ' "$(basename "$f" .
 # shellcheck disable=SC2086
 cmake --build build-tsan -j"$jobs" --target $capi_targets
 TSAN_OPTIONS=halt_on_error=1:second_deadlock_stack=1 ctest --test-dir build-tsan --output-on-failure -j"$jobs" -L capi
+
+echo "== fuzzing: each harness of tests/fuzz for 20 s (6 harnesses, 2 minutes plus the build) =="
+bash tests/fuzz/run.sh 20

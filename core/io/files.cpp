@@ -401,7 +401,9 @@ Table read_npy_table(const std::string& path, const std::string& bytes) {
   else if (descr == "<f4" || descr == "=f4") item = 4;
   else bad("unsupported NPY data type '" + descr + "' (expected little-endian float64 '<f8' or float32 '<f4')");
   std::string fortran = field("fortran_order");
-  fortran = fortran.substr(fortran.find_first_not_of(' '));
+  const auto fortran_start = fortran.find_first_not_of(' ');
+  if (fortran_start == std::string::npos) bad("malformed NPY header (fortran_order)");
+  fortran = fortran.substr(fortran_start);
   const bool fortran_order = fortran.rfind("True", 0) == 0;
   if (!fortran_order && fortran.rfind("False", 0) != 0) bad("malformed NPY header (fortran_order)");
   std::string shape = field("shape");

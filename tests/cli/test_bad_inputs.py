@@ -108,6 +108,9 @@ CASES = [
      ["connect", "{d}/z.npy", "--out", "{d}/o.tsv"], 1, ["z.npy", "array is empty"]),
     ("npy NaN", {"nan.npy": npy("{'descr': '<f8', 'fortran_order': False, 'shape': (3, 2), }", f8([1, 2, 3, float("nan"), 5, 6]))},
      ["connect", "{d}/nan.npy", "--out", "{d}/o.tsv"], 1, ["nan.npy", "row 2, column 2", "not finite"]),
+    # found by tests/fuzz/fuzz_tables (an uncaught std::out_of_range before)
+    ("npy blank fortran_order", {"f.npy": "@npy_blank"}, ["connect", "{d}/f.npy", "--out", "{d}/o.tsv"], 1,
+     ["f.npy", "malformed NPY header"]),
     ("npy version", {"v.npy": b"\x93NUMPY\x09\x00" + bytes(60)}, ["connect", "{d}/v.npy", "--out", "{d}/o.tsv"], 1,
      ["v.npy", "unsupported NPY format version 9"]),
     # ---- connect options --------------------------------------------------------------
@@ -290,6 +293,9 @@ class BadInputs(unittest.TestCase):
         huge = bytearray(blobs["atlas"])
         struct.pack_into("<8h", huge, 40, 3, 32767, 32767, 32767, 1, 1, 1, 1)
         blobs["huge_labels"] = bytes(huge[:480])
+        with open(os.path.join(os.environ["CRITPLEX_SOURCE_DIR"], "tests/fuzz/corpus/tables/regression_npy_fortran_blank"),
+                  "rb") as f:
+            blobs["npy_blank"] = f.read()[1:]  # the harness's first byte picks the format
         cls.blobs = blobs
 
     @classmethod
