@@ -66,6 +66,21 @@ class OutputSafety(unittest.TestCase):
         self.assertEqual(p.returncode, 2, p.stderr)
         self.assertIn("is the input", p.stderr)
 
+    def test_subject_output_is_its_input(self):
+        # The series sits where the subject's connectivity output would go.
+        out = self.path("out")
+        os.mkdir(out)
+        series = os.path.join(out, "sub-s1_connectivity.tsv")
+        with open(series, "w") as f:
+            f.write(series_text(120, 5))
+        before = read(series)
+        p = subprocess.run([CLI, "subject", "--timeseries", series, "--id", "s1", "--out", out],
+                           capture_output=True, text=True)
+        self.assertNotEqual(p.returncode, 0)
+        self.assertIn("is the input", p.stderr)
+        self.assertEqual(read(series), before)
+        self.assertEqual(os.listdir(out), ["sub-s1_connectivity.tsv"])
+
     def test_fifo_is_refused_and_kept(self):
         fifo = self.path("pipe.tsv")
         os.mkfifo(fifo)
