@@ -4,6 +4,7 @@
 #include <nlohmann/json.hpp>
 
 #include "guard.hpp"
+#include "io/files.hpp"
 #include "pipeline/options_catalogue.hpp"
 
 namespace critplex::capi {
@@ -86,6 +87,7 @@ const char* cpx_version(void) { return CPX_VERSION_STRING; }
 int cpx_abi_version(void) { return CPX_ABI_VERSION; }
 const char* cpx_last_error(void) { return critplex::capi::last_error.c_str(); }
 void cpx_string_free(char* text) { std::free(text); }
+void cpx_remove_partial_files(void) { critplex::io::remove_temporaries_now(); }
 
 const char* cpx_status_name(cpx_status status) {
   switch (status) {

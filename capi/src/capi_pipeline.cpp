@@ -68,12 +68,7 @@ cpx_status cpx_cohort_report(const char* dir, const char* options_json, char** r
     const std::string out = options.out.empty() ? std::string(dir) + "/report.html" : options.out;
     const std::string& created = options.created;
     const std::string source = std::string(dir) + "/group_comparison.json";
-    Json comparison;
-    try {
-      comparison = Json::parse(io::read_file(source));
-    } catch (const Json::parse_error& e) {
-      fail(ErrorKind::parse, "'" + source + "': not valid JSON (" + e.what() + ")");
-    }
+    const Json comparison = parse_json_text(io::read_file(source), "'" + source + "'", ErrorKind::parse);
     // Both texts first, then the files: a failure leaves neither.
     const pipeline::Comparison c = output::read_comparison(comparison, source);
     const std::string html = pipeline::report_html(c, created);

@@ -4,8 +4,10 @@
 
 #include <critplex/critplex.h>
 
+#include <atomic>
 #include <cstring>
 #include <exception>
+#include <memory>
 #include <new>
 #include <string>
 
@@ -57,10 +59,20 @@ char* copy_string(const std::string& text);
 void copy_to_buffer(const std::string& text, char* out, std::size_t capacity, std::size_t* needed);
 
 // Wraps a C progress callback for the core: returns true when the caller wants to stop.
+// The caller's progress callback. Once it has asked to stop, it is never called again
+// (the stages may still check for a cancel a few times while they unwind); copies share
+// that state, since the stages take the callback by value.
 struct Progress {
+  Progress(cpx_progress_fn f, void* u) : fn(f), user(u), stopped(std::make_shared<std::atomic<bool>>(false)) {}
   cpx_progress_fn fn = nullptr;
   void* user = nullptr;
-  bool operator()(double fraction) const { return fn != nullptr && fn(fraction, user) != 0; }
+  std::shared_ptr<std::atomic<bool>> stopped;
+  bool operator()(double fraction) const {
+    if (stopped->load()) return true;
+    if (fn == nullptr || fn(fraction, user) == 0) return false;
+    stopped->store(true);
+    return true;
+  }
 };
 
 }  // namespace critplex::capi

@@ -2,6 +2,8 @@
 // the kind into a cpx_status and the message into cpx_last_error().
 #pragma once
 
+#include <string.h>
+
 #include <stdexcept>
 #include <string>
 
@@ -32,5 +34,16 @@ class Error : public std::runtime_error {
 };
 
 [[noreturn]] inline void fail(ErrorKind kind, const std::string& message) { throw Error(kind, message); }
+
+// Text of an errno value through the reentrant strerror_r (std::strerror may share one
+// buffer between threads).
+inline std::string system_error_text(int code) {
+  char buffer[256];
+#if defined(_GNU_SOURCE)
+  return ::strerror_r(code, buffer, sizeof buffer);  // the GNU form returns the text
+#else
+  return ::strerror_r(code, buffer, sizeof buffer) == 0 ? std::string(buffer) : "error " + std::to_string(code);
+#endif
+}
 
 }  // namespace critplex

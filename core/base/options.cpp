@@ -1,19 +1,72 @@
 #include "base/options.hpp"
 
 #include <cmath>
+#include <set>
+#include <vector>
+
+#include "base/option_schema.hpp"
 
 namespace critplex {
+
+namespace {
+
+std::string shortened(const std::string& text, std::size_t limit = 200) {
+  if (text.size() <= limit) return text;
+  return text.substr(0, limit) + "... (" + std::to_string(text.size()) + " characters)";
+}
+
+// Refuses nesting deeper than kMaxJsonDepth, counting brackets outside strings.
+void check_json_depth(const std::string& text, const std::string& where, ErrorKind kind) {
+  int depth = 0;
+  bool in_string = false, escaped = false;
+  std::size_t line = 1, column = 0;
+  for (char c : text) {
+    ++column;
+    if (c == '\n') line += 1, column = 0;
+    if (in_string) {
+      if (escaped) escaped = false;
+      else if (c == '\\') escaped = true;
+      else if (c == '"') in_string = false;
+      continue;
+    }
+    if (c == '"') in_string = true;
+    else if (c == '[' || c == '{') {
+      if (++depth > kMaxJsonDepth)
+        fail(kind, where + ": JSON nested deeper than " + std::to_string(kMaxJsonDepth) +
+                                      " levels at line " + std::to_string(line) + ", column " + std::to_string(column));
+    } else if (c == ']' || c == '}') {
+      --depth;
+    }
+  }
+}
+
+}  // namespace
+
+Json parse_json_text(const std::string& text, const std::string& where, ErrorKind kind) {
+  check_json_depth(text, where, kind);
+  // One set of keys per open object; a key seen twice in the same object is refused.
+  std::vector<std::set<std::string>> keys;
+  auto on_event = [&](int, Json::parse_event_t event, Json& parsed) {
+    if (event == Json::parse_event_t::object_start) keys.emplace_back();
+    else if (event == Json::parse_event_t::object_end && !keys.empty()) keys.pop_back();
+    else if (event == Json::parse_event_t::key && !keys.empty() && !keys.back().insert(parsed.get<std::string>()).second)
+      fail(kind, where + ": key " + quoted_value(parsed) + " appears twice in the same JSON object");
+    return true;
+  };
+  try {
+    return Json::parse(text, on_event);
+  } catch (const Json::parse_error& e) {
+    fail(kind, where + ": not valid JSON (" + shortened(e.what()) + ")");
+  } catch (const Json::out_of_range& e) {  // a number beyond double's range, e.g. 1e400
+    fail(kind, where + ": not usable JSON (" + shortened(e.what()) + ")");
+  }
+}
 
 Json parse_options(const char* text, const std::string& where) {
   if (text == nullptr) return Json::object();
   std::string s(text);
   if (s.find_first_not_of(" \t\r\n") == std::string::npos) return Json::object();
-  Json j;
-  try {
-    j = Json::parse(s);
-  } catch (const Json::parse_error& e) {
-    fail(ErrorKind::argument, where + ": not valid JSON (" + e.what() + ")");
-  }
+  Json j = parse_json_text(s, where);
   if (j.is_null()) return Json::object();
   if (!j.is_object()) fail(ErrorKind::argument, where + ": expected a JSON object, got " + std::string(j.type_name()));
   return j;
@@ -32,7 +85,7 @@ const Json& OptionReader::value(const std::string& key) {
 
 void OptionReader::bad(const std::string& key, const std::string& expected) const {
   fail(ErrorKind::argument,
-       where_ + ": option \"" + key + "\" must be " + expected + ", got " + object_.at(key).dump());
+       where_ + ": option \"" + key + "\" must be " + expected + ", got " + quoted_value(object_.at(key)));
 }
 
 std::optional<double> OptionReader::number(const std::string& key) {

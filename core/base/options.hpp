@@ -15,6 +15,17 @@ namespace critplex {
 
 using Json = nlohmann::json;
 
+// Deepest nesting of arrays and objects accepted in options, configs and other JSON
+// text we read (a real config needs fewer than 10 levels). Checked by a scan of the
+// brackets before the JSON parser runs, so hostile text cannot exhaust the stack.
+inline constexpr int kMaxJsonDepth = 64;
+
+// Parses JSON text after the depth scan; an object holding the same key twice is
+// refused naming the key (the parser would otherwise keep one silently). Errors are
+// `kind` (argument for options, parse for files), start with `where` and quote at most
+// ~200 characters.
+Json parse_json_text(const std::string& text, const std::string& where, ErrorKind kind = ErrorKind::argument);
+
 // Parses options text; empty or null text means "no options". `where` names the
 // argument in error messages (e.g. "options of cpx_connect").
 Json parse_options(const char* text, const std::string& where);

@@ -12,7 +12,9 @@
 
 // The hot loops are popcounts; x86-64 builds get a second copy using the POPCNT
 // instruction, picked at load time, so one binary runs everywhere at full speed.
-#if defined(__x86_64__) && defined(__GNUC__) && !defined(__clang__)
+// Not under ThreadSanitizer: the load-time resolver would run instrumented code before
+// the sanitizer's runtime is ready (a crash while the library is relocated).
+#if defined(__x86_64__) && defined(__GNUC__) && !defined(__clang__) && !defined(__SANITIZE_THREAD__)
 #define CRITPLEX_POPCOUNT_CLONES __attribute__((target_clones("popcnt", "default")))
 #else
 #define CRITPLEX_POPCOUNT_CLONES

@@ -2,6 +2,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <cstdio>
 
 #include "base/error.hpp"
 #include "base/option_schema.hpp"
@@ -251,11 +252,68 @@ namespace {
 
 // Steps shared by every band: regression (fit on kept frames) and the censoring mask.
 struct Prepared {
-  Eigen::MatrixXd cleaned;
+  Eigen::MatrixXd cleaned;  // scaled by `scale` (per region)
+  Eigen::VectorXd scale;    // powers of two, see power_of_two_scales
   std::vector<bool> keep;  // empty: no censoring
   double dt;
   std::string origin;
 };
+
+// Results that do not change when one region is multiplied by a positive number.
+bool invariant_per_region(const ConnectOptions& o) {
+  if (o.clean.unit_variance) return true;
+  if (o.method == Estimator::ledoit_wolf || o.method == Estimator::oas) return false;
+  if (o.method == Estimator::partial) return o.partial_basis == "sample" || o.partial_basis == "shrinkage_correlation";
+  return true;
+}
+
+// Powers of two bringing each region's largest magnitude into [1, 2): multiplying by them is
+// exact, so ordinary data give bit-identical results, while sums of squares of values near
+// 1e160 or 1e-170 no longer overflow or underflow. The covariance shrinkage estimators are not
+// invariant to a region's scale, so they get one common power of two (from the largest value):
+// their regions may then differ in magnitude by at most 2^480 (~3e144), checked here, so
+// that products of the smallest region stay normal doubles.
+Eigen::VectorXd power_of_two_scales(const series::Series& input, const ConnectOptions& o) {
+  const Eigen::MatrixXd& x = input.values;
+  const bool per_region = invariant_per_region(o);
+  if (!per_region) {
+    Eigen::Index small = 0, large = 0;
+    const Eigen::VectorXd m = x.cwiseAbs().colwise().maxCoeff().transpose();
+    m.minCoeff(&small);
+    m.maxCoeff(&large);
+    auto g = [](double v) {
+      char text[32];
+      std::snprintf(text, sizeof text, "%.3g", v);
+      return std::string(text);
+    };
+    if (m(small) < std::ldexp(m(large), -480))
+      fail(ErrorKind::data, (input.source.empty() ? std::string("time series") : input.source) + ": regions '" +
+                                input.names[static_cast<std::size_t>(large)] + "' and '" +
+                                input.names[static_cast<std::size_t>(small)] + "' differ in magnitude by more than 2^480 (largest |value| " +
+                                g(m(large)) + " and " + g(m(small)) + "); \"" + o.method_name +
+                                "\" works on one common scale and cannot represent both: rescale the regions or set "
+                                "\"clean\": {\"unit_variance\": true}");
+  }
+  Eigen::VectorXd scale(x.cols());
+  const double overall = x.cwiseAbs().maxCoeff();
+  for (Eigen::Index j = 0; j < x.cols(); ++j) {
+    const double m = per_region ? x.col(j).cwiseAbs().maxCoeff() : overall;
+    scale(j) = m > 0 && std::isfinite(m) ? std::ldexp(1.0, -std::ilogb(m)) : 1.0;
+  }
+  return scale;
+}
+
+// ErrorKind::data naming the first pair of regions whose value is NaN or infinite.
+void require_finite(const Eigen::MatrixXd& r, const series::Series& input, const std::string& origin,
+                    const ConnectOptions& o, const series::Band& b) {
+  for (Eigen::Index j = 0; j < r.cols(); ++j)
+    for (Eigen::Index i = 0; i < r.rows(); ++i)
+      if (!std::isfinite(r(i, j)))
+        fail(ErrorKind::data, origin + ": the " + o.method_name + " matrix" + (b.name.empty() ? "" : " of band \"" + b.name + "\"") +
+                                  " has a non-finite value for regions '" + input.names[static_cast<std::size_t>(i)] + "' and '" +
+                                  input.names[static_cast<std::size_t>(j)] +
+                                  "' (values too large, too small or too different in magnitude to be represented)");
+}
 
 Prepared prepare(const series::Series& input, const ConnectOptions& o, const series::CleanInputs& in) {
   series::validate(input);
@@ -268,7 +326,8 @@ Prepared prepare(const series::Series& input, const ConnectOptions& o, const ser
                               " rows but " + p.origin + " has " + std::to_string(T) + " frames");
   if (in.motion.size() > 0 || in.mask.size() > 0)
     p.keep = series::frames_to_keep(T, in.motion, o.clean.motion_limit, in.mask, o.clean.min_frames);
-  p.cleaned = input.values;
+  p.scale = power_of_two_scales(input, o);
+  p.cleaned = input.values * p.scale.asDiagonal();
   if (in.confounds.cols() > 0 || o.clean.trend_order >= 0)
     p.cleaned = series::regress_out(p.cleaned, in.confounds, o.clean.trend_order, p.keep);
   for (const auto& b : o.bands)
@@ -295,6 +354,7 @@ series::Series clean_series(const series::Series& input, const ConnectOptions& o
   const Prepared p = prepare(input, o, in);
   series::Series out;
   out.values = finish_band(p, o.bands.empty() ? series::Band{} : o.bands[0], o, input, true);
+  if (!o.clean.unit_variance) out.values = out.values * p.scale.cwiseInverse().asDiagonal();  // exact: powers of two
   out.names = input.names;
   out.sampling_interval = p.dt;
   out.source = input.source;
@@ -352,13 +412,14 @@ std::vector<BandMatrix> connect(const series::Series& input, const ConnectOption
       for (Eigen::Index j = 0; j < x.cols(); ++j) {
         // Cleaning leaves rounding noise where it removed everything: compare with the input scale.
         const double range = x.col(j).maxCoeff() - x.col(j).minCoeff();
-        if (!(range > 1e-12 * input.values.col(j).cwiseAbs().maxCoeff()))
+        if (!(range > 1e-12 * p.scale(j) * input.values.col(j).cwiseAbs().maxCoeff()))
           fail(ErrorKind::data, origin + ": region '" + input.names[static_cast<std::size_t>(j)] +
                                     "' is constant after cleaning" + (b.name.empty() ? "" : " in band \"" + b.name + "\""));
       }
       info["frames_used"] = x.rows();
       r = estimate(x, o, info);
     }
+    require_finite(r, input, origin, o, b);
     if (o.fisher_z) r = fisher_z(r);
     BandMatrix bm;
     bm.band = b.name;

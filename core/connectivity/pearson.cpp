@@ -5,8 +5,16 @@
 namespace critplex::connectivity {
 
 Eigen::MatrixXd pearson(const Eigen::MatrixXd& values) {
-  // Centre, then scale each column to unit norm: the Gram matrix is the correlation.
-  Eigen::MatrixXd z = values.rowwise() - values.colwise().mean();
+  // Each column first brought to a largest magnitude in [1, 2) by a power of two (exact,
+  // and the correlation does not depend on it) so that 1e160 or 1e-170 neither overflow nor
+  // underflow; then centred (two passes: mean, then deviations) and scaled to unit norm:
+  // the Gram matrix is the correlation.
+  Eigen::MatrixXd z = values;
+  for (Eigen::Index j = 0; j < z.cols(); ++j) {
+    const double m = z.col(j).cwiseAbs().maxCoeff();
+    if (m > 0 && std::isfinite(m)) z.col(j) *= std::ldexp(1.0, -std::ilogb(m));
+  }
+  z = z.rowwise() - z.colwise().mean();
   Eigen::VectorXd norms = z.colwise().norm();
   for (Eigen::Index j = 0; j < z.cols(); ++j) z.col(j) /= norms(j);
   Eigen::MatrixXd r(z.cols(), z.cols());

@@ -1,52 +1,176 @@
 #include "io/files.hpp"
 
+#include <fcntl.h>
+#include <signal.h>
+#include <sys/stat.h>
 #include <unistd.h>
 
 #include <algorithm>
+#include <atomic>
 #include <cerrno>
 #include <charconv>
 #include <cmath>
 #include <cstdio>
+#include <cstdlib>
 #include <cstring>
 #include <filesystem>
 #include <fstream>
+#include <map>
 #include <sstream>
 
 #include "base/error.hpp"
 #include "base/options.hpp"
+#include "io/image_file.hpp"
+#include "io/xml.hpp"
 
 namespace critplex::io {
 
 std::string read_file(const std::string& path) {
+  struct stat st;
+  if (::stat(path.c_str(), &st) == 0 && S_ISDIR(st.st_mode))
+    fail(ErrorKind::io, "cannot read '" + path + "': it is a folder, not a file");
   std::ifstream in(path, std::ios::binary);
-  if (!in) fail(ErrorKind::io, "cannot open '" + path + "': " + std::strerror(errno));
+  if (!in) fail(ErrorKind::io, "cannot open '" + path + "': " + system_error_text(errno));
   std::ostringstream ss;
   ss << in.rdbuf();
   if (in.bad()) fail(ErrorKind::io, "cannot read '" + path + "'");
   return ss.str();
 }
 
-void write_file_atomically(const std::string& path, const std::string& bytes) {
-  if (path.empty()) fail(ErrorKind::argument, "output path is empty");
-  const std::string tmp = path + ".tmp-" + std::to_string(::getpid()) + "-" +
-                          std::to_string(reinterpret_cast<std::uintptr_t>(&bytes) & 0xffff);
-  std::FILE* f = std::fopen(tmp.c_str(), "wb");
-  if (f == nullptr) fail(ErrorKind::io, "cannot write '" + path + "': " + std::strerror(errno));
-  bool ok = std::fwrite(bytes.data(), 1, bytes.size(), f) == bytes.size();
-  ok = (std::fflush(f) == 0) && ok;
-  ok = (std::fclose(f) == 0) && ok;
-  if (!ok) {
-    std::remove(tmp.c_str());
-    fail(ErrorKind::io, "cannot write '" + path + "': write failed (disk full?)");
+// ------------------------------------------------------------------ safe output
+
+namespace {
+
+// Temporaries being written right now, for removal from a signal handler: a fixed table
+// of C strings and atomic states (0 free, 1 being filled, 2 ready), nothing allocated.
+constexpr int kTemporarySlots = 64;
+constexpr std::size_t kTemporaryPathMax = 4096;
+char temporary_paths[kTemporarySlots][kTemporaryPathMax];
+std::atomic<int> temporary_states[kTemporarySlots];
+std::atomic<unsigned> temporary_counter{0};
+
+static_assert(std::atomic<int>::is_always_lock_free, "signal handlers need lock-free atomics");
+
+int register_temporary(const std::string& tmp) {
+  if (tmp.size() + 1 > kTemporaryPathMax) return -1;
+  for (int i = 0; i < kTemporarySlots; ++i) {
+    int expected = 0;
+    if (temporary_states[i].compare_exchange_strong(expected, 1)) {
+      std::memcpy(temporary_paths[i], tmp.c_str(), tmp.size() + 1);
+      temporary_states[i].store(2);
+      return i;
+    }
   }
-  if (std::rename(tmp.c_str(), path.c_str()) != 0) {
-    int e = errno;
-    std::remove(tmp.c_str());
-    fail(ErrorKind::io, "cannot write '" + path + "': " + std::strerror(e));
+  return -1;  // table full: the file is still written safely, only not removed on a signal
+}
+
+void release_temporary(int slot) {
+  if (slot >= 0) temporary_states[slot].store(0);
+}
+
+std::string folder_of(const std::string& path) {
+  const auto slash = path.find_last_of('/');
+  if (slash == std::string::npos) return ".";
+  return slash == 0 ? "/" : path.substr(0, slash);
+}
+
+// Leftovers "<name>.tmp-<pid>-<n>" of a process that no longer runs (killed hard) are removed.
+void remove_stale_temporaries(const std::string& path) {
+  const std::string folder = folder_of(path);
+  const std::string prefix = path.substr(path.find_last_of('/') == std::string::npos ? 0 : path.find_last_of('/') + 1) + ".tmp-";
+  std::error_code ec;
+  for (std::filesystem::directory_iterator it(folder, ec), end; !ec && it != end; it.increment(ec)) {
+    const std::string name = it->path().filename().string();
+    if (name.compare(0, prefix.size(), prefix) != 0) continue;
+    const std::string rest = name.substr(prefix.size());
+    const auto dash = rest.find('-');
+    if (dash == std::string::npos || dash == 0 || rest.find_first_not_of("0123456789-") != std::string::npos) continue;
+    const long pid = std::strtol(rest.substr(0, dash).c_str(), nullptr, 10);
+    if (pid > 0 && ::kill(static_cast<pid_t>(pid), 0) != 0 && errno == ESRCH) ::unlink(it->path().c_str());
   }
 }
 
+// The file a write to `path` replaces: a symlink is followed (the target is replaced and the
+// link stays); a folder, FIFO, device or socket is refused; missing folders are created.
+std::string resolve_output(const std::string& path) {
+  struct stat st;
+  std::string target = path;
+  if (::lstat(path.c_str(), &st) == 0 && S_ISLNK(st.st_mode)) {
+    std::error_code ec;
+    target = std::filesystem::canonical(path, ec).string();
+    if (ec) fail(ErrorKind::io, "cannot write '" + path + "': it is a symbolic link to a missing file or folder");
+  }
+  if (::stat(target.c_str(), &st) == 0) {
+    if (S_ISDIR(st.st_mode)) fail(ErrorKind::io, "cannot write '" + path + "': it is a folder");
+    if (!S_ISREG(st.st_mode))
+      fail(ErrorKind::io, "cannot write '" + path + "': not a regular file (a FIFO, device or socket); only regular files are written");
+    return target;
+  }
+  make_folders(folder_of(target));
+  return target;
+}
+
+void write_all(int fd, const std::string& bytes, const std::string& path, const std::string& tmp, int slot) {
+  std::size_t done = 0;
+  while (done < bytes.size()) {
+    const ssize_t n = ::write(fd, bytes.data() + done, bytes.size() - done);
+    if (n < 0 && errno == EINTR) continue;
+    if (n <= 0) {
+      const int e = errno;
+      ::close(fd);
+      ::unlink(tmp.c_str());
+      release_temporary(slot);
+      fail(ErrorKind::io, "cannot write '" + path + "': " + system_error_text(e));
+    }
+    done += static_cast<std::size_t>(n);
+  }
+}
+
+}  // namespace
+
+void remove_temporaries_now() noexcept {
+  for (int i = 0; i < kTemporarySlots; ++i)
+    if (temporary_states[i].load() == 2) ::unlink(temporary_paths[i]);
+}
+
+void write_file_atomically(const std::string& path, const std::string& bytes) {
+  if (path.empty()) fail(ErrorKind::argument, "output path is empty");
+  const std::string target = resolve_output(path);
+  remove_stale_temporaries(target);
+  const std::string tmp = target + ".tmp-" + std::to_string(::getpid()) + "-" + std::to_string(temporary_counter++);
+  const int slot = register_temporary(tmp);
+  // O_EXCL: never write through a file or link someone planted under the temporary's name.
+  const int fd = ::open(tmp.c_str(), O_WRONLY | O_CREAT | O_EXCL | O_CLOEXEC, 0666);
+  if (fd < 0) {
+    const int e = errno;
+    release_temporary(slot);
+    fail(ErrorKind::io, "cannot write '" + path + "': " + system_error_text(e));
+  }
+  write_all(fd, bytes, path, tmp, slot);
+  if (::close(fd) != 0) {
+    const int e = errno;
+    ::unlink(tmp.c_str());
+    release_temporary(slot);
+    fail(ErrorKind::io, "cannot write '" + path + "': " + system_error_text(e));
+  }
+  if (std::rename(tmp.c_str(), target.c_str()) != 0) {
+    const int e = errno;
+    ::unlink(tmp.c_str());
+    release_temporary(slot);
+    fail(ErrorKind::io, "cannot write '" + path + "': rename of the temporary file failed: " + system_error_text(e));
+  }
+  release_temporary(slot);
+}
+
 void make_folders(const std::string& dir) {
+  struct stat st;
+  // A path component that is a file: say so instead of "Not a directory".
+  for (std::size_t pos = dir.find('/', 1); ; pos = dir.find('/', pos + 1)) {
+    const std::string prefix = dir.substr(0, pos);
+    if (::stat(prefix.c_str(), &st) == 0 && !S_ISDIR(st.st_mode))
+      fail(ErrorKind::io, "cannot create folder '" + dir + "': '" + prefix + "' is a file, not a folder");
+    if (pos == std::string::npos) break;
+  }
   std::error_code ec;
   std::filesystem::create_directories(dir, ec);
   if (ec) fail(ErrorKind::io, "cannot create folder '" + dir + "': " + ec.message());
@@ -111,8 +235,39 @@ bool parse_number(const std::string& cell, double& out) {
 
 std::string column_label(std::size_t column, const std::vector<std::string>& names) {
   std::string s = "column " + std::to_string(column + 1);
-  if (column < names.size() && !names[column].empty()) s += " ('" + names[column] + "')";
+  if (column < names.size() && !names[column].empty() && is_utf8(names[column])) s += " (" + excerpt(names[column]) + ")";
   return s;
+}
+
+// A whole number of an NPY shape: digits only, and at most 2^62 (so products are checked).
+std::size_t npy_dimension(const std::string& text, const std::string& path) {
+  std::size_t value = 0;
+  auto [ptr, ec] = std::from_chars(text.data(), text.data() + text.size(), value);
+  if (ec != std::errc() || ptr != text.data() + text.size() || value > (std::size_t{1} << 62))
+    fail(ErrorKind::parse, "'" + path + "': malformed NPY header (shape entry " + excerpt(text) + " is not a size)");
+  return value;
+}
+
+// Region names from a header row (one line, several columns) or from the first column
+// (one per line): valid UTF-8 without control characters, and each name once.
+void check_names(const std::string& path, const std::vector<std::string>& names, std::size_t header_line,
+                 const std::vector<std::size_t>& row_lines) {
+  auto place = [&](std::size_t i) {
+    return header_line > 0 ? "'" + path + "', line " + std::to_string(header_line) + ", column " + std::to_string(i + 1)
+                           : "'" + path + "', line " + std::to_string(row_lines[i]);
+  };
+  std::map<std::string, std::size_t> seen;
+  for (std::size_t i = 0; i < names.size(); ++i) {
+    if (names[i].empty()) continue;  // replaced by a default name
+    check_region_name(names[i], place(i));
+    auto [it, fresh] = seen.emplace(names[i], i);
+    if (fresh) continue;
+    if (header_line > 0)
+      fail(ErrorKind::data, "'" + path + "', line " + std::to_string(header_line) + ": region name " + excerpt(names[i]) +
+                                " appears twice (columns " + std::to_string(it->second + 1) + " and " + std::to_string(i + 1) + ")");
+    fail(ErrorKind::data, "'" + path + "': region name " + excerpt(names[i]) + " appears twice (lines " +
+                              std::to_string(row_lines[it->second]) + " and " + std::to_string(row_lines[i]) + ")");
+  }
 }
 
 Table read_text_table(const std::string& path, const std::string& bytes, char separator, const TableOptions& opt) {
@@ -156,6 +311,7 @@ Table read_text_table(const std::string& path, const std::string& bytes, char se
   }
   std::size_t first = header ? 1 : 0;
   if (header) t.column_names = rows[0];
+  if (header) t.header_line = lines[0].first;
   if (rows.size() <= first) fail(ErrorKind::parse, "'" + path + "' has a header row but no data rows");
 
   bool row_names = false;
@@ -187,6 +343,7 @@ Table read_text_table(const std::string& path, const std::string& bytes, char se
       fail(ErrorKind::parse, "'" + path + "', line " + std::to_string(line_no) + ": expected " + std::to_string(width) +
                                  " cells, found " + std::to_string(cells.size()) + " (ragged row)");
     if (row_names) t.row_names.push_back(cells[0]);
+    t.row_lines.push_back(line_no);
     for (std::size_t c = 0; c < columns; ++c) {
       const std::string& cell = cells[c + offset];
       double d;
@@ -195,10 +352,10 @@ Table read_text_table(const std::string& path, const std::string& bytes, char se
           d = std::numeric_limits<double>::quiet_NaN();
         else
           fail(ErrorKind::parse, "'" + path + "', line " + std::to_string(line_no) + ", " +
-                                     column_label(c, t.column_names) + ": '" + cell + "' is not a number");
+                                     column_label(c, t.column_names) + ": " + excerpt(cell) + " is not a number");
       } else if (!std::isfinite(d)) {
         fail(ErrorKind::data, "'" + path + "', line " + std::to_string(line_no) + ", " +
-                                  column_label(c, t.column_names) + ": value '" + cell + "' is not finite");
+                                  column_label(c, t.column_names) + ": value " + excerpt(cell) + " is not finite");
       }
       t.values(static_cast<Eigen::Index>(r - first), static_cast<Eigen::Index>(c)) = d;
     }
@@ -244,7 +401,9 @@ Table read_npy_table(const std::string& path, const std::string& bytes) {
   else if (descr == "<f4" || descr == "=f4") item = 4;
   else bad("unsupported NPY data type '" + descr + "' (expected little-endian float64 '<f8' or float32 '<f4')");
   std::string fortran = field("fortran_order");
-  fortran = fortran.substr(fortran.find_first_not_of(' '));
+  const auto fortran_start = fortran.find_first_not_of(' ');
+  if (fortran_start == std::string::npos) bad("malformed NPY header (fortran_order)");
+  fortran = fortran.substr(fortran_start);
   const bool fortran_order = fortran.rfind("True", 0) == 0;
   if (!fortran_order && fortran.rfind("False", 0) != 0) bad("malformed NPY header (fortran_order)");
   std::string shape = field("shape");
@@ -259,7 +418,8 @@ Table read_npy_table(const std::string& path, const std::string& bytes) {
     while (std::getline(ss, part, ',')) {
       auto b = part.find_first_not_of(' ');
       if (b == std::string::npos) continue;
-      dims.push_back(static_cast<std::size_t>(std::stoull(part.substr(b))));
+      auto e = part.find_last_not_of(' ');
+      dims.push_back(npy_dimension(part.substr(b, e - b + 1), path));
     }
   }
   if (dims.size() != 2) bad("expected a 2-D array (time points x regions), got " + std::to_string(dims.size()) + " dimensions");
@@ -323,6 +483,7 @@ static TableOptions table_options(const nlohmann::json& options, const std::stri
 series::Series read_series(const std::string& path, const nlohmann::json& options) {
   TableOptions opt = table_options(options, "time series options");
   Table t = read_table(path, opt);
+  check_names(path, t.column_names, t.header_line, t.row_lines);
   series::Series s;
   s.source = path;
   s.values = std::move(t.values);
@@ -344,6 +505,8 @@ connectivity::Matrix read_matrix(const std::string& path, const nlohmann::json& 
   if (t.values.rows() < 2) fail(ErrorKind::data, "'" + path + "': matrix needs at least 2 nodes");
   m.values = std::move(t.values);
   const auto n = static_cast<std::size_t>(m.values.rows());
+  if (!t.column_names.empty()) check_names(path, t.column_names, t.header_line, t.row_lines);
+  else if (!t.row_names.empty()) check_names(path, t.row_names, 0, t.row_lines);
   m.names = !t.column_names.empty() ? t.column_names : !t.row_names.empty() ? t.row_names : series::default_names(n);
   // Symmetry is checked here so the message can name the file.
   double scale = m.values.cwiseAbs().maxCoeff();

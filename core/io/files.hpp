@@ -13,13 +13,20 @@
 
 namespace critplex::io {
 
-// Whole file as bytes; ErrorKind::io naming the path when it cannot be read.
+// Whole file as bytes; ErrorKind::io naming the path when it cannot be read or is a folder.
 std::string read_file(const std::string& path);
-// Writes through a temporary file in the same folder, renamed into place, so a reader
-// never sees a half-written file and a failure leaves nothing behind.
+// Writes through a temporary file "<path>.tmp-<pid>-<n>" in the same folder, renamed into
+// place, so a reader never sees a half-written file and a failure leaves nothing behind.
+// Rules: missing folders are created; a symbolic link is followed (the file it points to
+// is replaced, the link stays); a folder, FIFO, device or socket is refused (only regular
+// files are written); temporaries of processes that no longer run are removed first.
 void write_file_atomically(const std::string& path, const std::string& bytes);
-// Creates a folder and its parents (nothing if it exists); ErrorKind::io naming it.
+// Creates a folder and its parents (nothing if it exists); ErrorKind::io naming it, and
+// naming a part of the path that is a file.
 void make_folders(const std::string& dir);
+// Unlinks every temporary file being written at this moment. Async-signal-safe (a fixed
+// table of C strings, unlink only): for SIGINT/SIGTERM handlers.
+void remove_temporaries_now() noexcept;
 
 // A numeric table from TSV, CSV, whitespace-separated text or NPY.
 struct Table {
@@ -27,6 +34,8 @@ struct Table {
   std::vector<std::string> column_names;  // empty when the file had no header row
   std::vector<std::string> row_names;     // empty unless the first column held names
   std::size_t first_data_line = 1;        // 1-based line of the first data row (text files)
+  std::size_t header_line = 0;            // 1-based line of the header row (0: none)
+  std::vector<std::size_t> row_lines;     // 1-based line of each data row (text files)
 };
 
 struct TableOptions {

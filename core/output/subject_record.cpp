@@ -69,12 +69,7 @@ double SubjectRecord::summary(const std::string& name) const {
 }
 
 SubjectRecord read_subject_record(const std::string& path, const std::string& band_name) {
-  Json doc;
-  try {
-    doc = Json::parse(io::read_file(path));
-  } catch (const Json::parse_error& e) {
-    fail(ErrorKind::parse, "'" + path + "': not valid JSON (" + e.what() + ")");
-  }
+  const Json doc = parse_json_text(io::read_file(path), "'" + path + "'", ErrorKind::parse);
   SubjectRecord s;
   s.path = path;
   s.id = doc.value("subject", "");

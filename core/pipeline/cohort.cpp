@@ -46,7 +46,7 @@ std::string finished_fingerprint(const std::string& path) {
   struct stat st;
   if (::stat(path.c_str(), &st) != 0) return "";
   try {
-    Json doc = Json::parse(io::read_file(path));
+    Json doc = parse_json_text(io::read_file(path), path, ErrorKind::parse);
     return doc.at("provenance").at("fingerprint").get<std::string>();
   } catch (const std::exception&) {
     return "";  // unreadable or foreign: recompute
@@ -63,7 +63,8 @@ void limit_threads(SweepOptions& sweep, int budget) {
 }  // namespace
 
 std::vector<ManifestRow> read_manifest(const std::string& path) {
-  const std::string text = io::read_file(path);
+  std::string text = io::read_file(path);
+  if (text.rfind("\xEF\xBB\xBF", 0) == 0) text.erase(0, 3);  // a UTF-8 byte-order mark (spreadsheet exports)
   const std::string base = folder_of(path);
   std::vector<ManifestRow> rows;
   std::vector<std::string> header;
@@ -79,6 +80,11 @@ std::vector<ManifestRow> read_manifest(const std::string& path) {
     auto cells = split_tabs(line);
     if (header.empty()) {
       header = cells;
+      for (std::size_t c = 0; c < header.size(); ++c)
+        for (std::size_t d = 0; d < c; ++d)
+          if (header[c] == header[d])
+            fail(ErrorKind::parse, "'" + path + "', line " + std::to_string(line_no) + ": column \"" + header[c] +
+                                       "\" appears twice (columns " + std::to_string(d + 1) + " and " + std::to_string(c + 1) + ")");
       auto has = [&](const char* name) { return std::find(header.begin(), header.end(), name) != header.end(); };
       if (!has("subject") || !has("group"))
         fail(ErrorKind::parse, "'" + path + "', line " + std::to_string(line_no) +
@@ -180,6 +186,17 @@ CohortSummary run_cohort(const std::string& manifest_path, const Json& config, c
     }
     if (!row.confounds.empty()) c["confounds"] = row.confounds;
     c["covariates"] = row.covariates;
+    // Input files named by the manifest must be readable files before any subject runs.
+    for (const std::string* file : {&row.timeseries, &row.image, &row.labels, &row.label_names, &row.confounds}) {
+      struct stat st;
+      if (file->empty()) continue;
+      if (::stat(file->c_str(), &st) != 0)
+        fail(ErrorKind::io, "'" + manifest_path + "', line " + std::to_string(row.line) + " (subject " + row.subject +
+                                "): cannot open '" + *file + "': " + system_error_text(errno));
+      if (S_ISDIR(st.st_mode))
+        fail(ErrorKind::io, "'" + manifest_path + "', line " + std::to_string(row.line) + " (subject " + row.subject +
+                                "): '" + *file + "' is a folder, not a file");
+    }
     try {
       configs.push_back(parse_subject_config(c, ""));
     } catch (const Error& e) {

@@ -362,7 +362,17 @@ Comparison compare_cohort(const std::string& dir, const CompareOptions& options)
   std::vector<Listed> listed;
   const std::string manifest = dir + "/manifest.tsv";
   if (fs::exists(manifest)) {
-    for (const auto& row : read_manifest(manifest)) listed.push_back({row.subject, row.session, row.group});
+    const std::vector<ManifestRow> rows = read_manifest(manifest);
+    // A covariate must be a column of the manifest: name the file, not a subject.
+    for (const auto& c : options.covariates)
+      if (!rows.empty() && !rows[0].covariates.contains(c)) {
+        std::string known;
+        for (auto it = rows[0].covariates.begin(); it != rows[0].covariates.end(); ++it)
+          known += (known.empty() ? "" : ", ") + it.key();
+        fail(ErrorKind::argument, "compare options: covariate \"" + c + "\" is not a column of the manifest '" + manifest +
+                                      "' (covariate columns: " + (known.empty() ? "none" : known) + ")");
+      }
+    for (const auto& row : rows) listed.push_back({row.subject, row.session, row.group});
   } else {
     if (!fs::is_directory(dir)) fail(ErrorKind::io, "'" + dir + "' is not a folder");
     std::vector<std::string> names;

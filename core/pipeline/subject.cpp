@@ -1,5 +1,7 @@
 #include "pipeline/subject.hpp"
 
+#include <sys/stat.h>
+
 #include <cmath>
 
 #include "base/error.hpp"
@@ -186,6 +188,21 @@ std::vector<std::string> write_subject_outputs(const SubjectResult& r, const std
   // Everything is serialised first: a value that cannot be written fails before any file
   // exists. The document goes last: its presence marks a finished subject.
   const std::vector<output::NamedText> files = output::subject_files(r);
+  io::make_folders(out_dir);  // created when missing; a file of that name is refused
+  // No output may replace one of the subject's inputs (same device and inode, so links
+  // and other spellings of a path are caught).
+  const SubjectConfig& c = r.config;
+  for (const std::string* input : {&c.timeseries, &c.image, &c.labels, &c.label_names, &c.connect.clean.regressor_table,
+                                   &c.connect.clean.frame_mask}) {
+    struct stat in;
+    if (input->empty() || ::stat(input->c_str(), &in) != 0) continue;
+    for (const auto& f : files) {
+      struct stat out;
+      const std::string path = out_dir + "/" + f.name;
+      if (::stat(path.c_str(), &out) == 0 && out.st_dev == in.st_dev && out.st_ino == in.st_ino)
+        fail(ErrorKind::argument, "output '" + path + "' is the input '" + *input + "' of this subject; choose another output folder");
+    }
+  }
   std::vector<std::string> written;
   for (const auto& f : files) {
     io::write_file_atomically(out_dir + "/" + f.name, f.text);

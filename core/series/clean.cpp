@@ -88,7 +88,14 @@ Eigen::MatrixXd keep_rows(const Eigen::MatrixXd& values, const std::vector<bool>
 }
 
 Eigen::MatrixXd standardise(const Eigen::MatrixXd& values, const std::vector<std::string>& names) {
-  Eigen::MatrixXd out = values.rowwise() - values.colwise().mean();
+  // A power of two first (exact; the result does not depend on it) so that squares of
+  // values near 1e160 or 1e-170 neither overflow nor underflow; then two passes.
+  Eigen::MatrixXd out = values;
+  for (Eigen::Index j = 0; j < out.cols(); ++j) {
+    const double m = out.col(j).cwiseAbs().maxCoeff();
+    if (m > 0 && std::isfinite(m)) out.col(j) *= std::ldexp(1.0, -std::ilogb(m));
+  }
+  out = out.rowwise() - out.colwise().mean();
   const double denom = static_cast<double>(values.rows() - 1);
   for (Eigen::Index j = 0; j < out.cols(); ++j) {
     const double sd = std::sqrt(out.col(j).squaredNorm() / denom);

@@ -1,12 +1,18 @@
 #include "cli.hpp"
 
+#include <fcntl.h>
+#include <signal.h>
+#include <sys/stat.h>
 #include <unistd.h>
 
+#include <cerrno>
 #include <chrono>
 #include <cmath>
+#include <csignal>
 #include <cstdio>
+#include <cstring>
+#include <filesystem>
 #include <fstream>
-#include <sys/stat.h>
 
 namespace critplex_cli {
 
@@ -110,6 +116,61 @@ std::string help_text(const Command& command) {
   return s;
 }
 
+namespace {
+std::string shortened(const std::string& text, std::size_t limit = 200) {
+  if (text.size() <= limit) return text;
+  return text.substr(0, limit) + "... (" + std::to_string(text.size()) + " characters)";
+}
+
+void check_json_depth(const std::string& text, const std::string& where, int code) {
+  int depth = 0;
+  bool in_string = false, escaped = false;
+  std::size_t line = 1, column = 0;
+  for (char c : text) {
+    ++column;
+    if (c == '\n') line += 1, column = 0;
+    if (in_string) {
+      if (escaped) escaped = false;
+      else if (c == '\\') escaped = true;
+      else if (c == '"') in_string = false;
+      continue;
+    }
+    if (c == '"') in_string = true;
+    else if (c == '[' || c == '{') {
+      if (++depth > kMaxJsonDepth)
+        throw Failure(where + ": JSON nested deeper than " + std::to_string(kMaxJsonDepth) + " levels at line " +
+                          std::to_string(line) + ", column " + std::to_string(column), code);
+    } else if (c == ']' || c == '}') {
+      --depth;
+    }
+  }
+}
+}  // namespace
+
+nlohmann::json parse_json_input(const std::string& text, const std::string& where, int code) {
+  check_json_depth(text, where, code);
+  std::vector<std::vector<std::string>> keys;  // keys of each open object
+  auto on_event = [&](int, nlohmann::json::parse_event_t event, nlohmann::json& parsed) {
+    using E = nlohmann::json::parse_event_t;
+    if (event == E::object_start) keys.emplace_back();
+    else if (event == E::object_end && !keys.empty()) keys.pop_back();
+    else if (event == E::key && !keys.empty()) {
+      const std::string key = parsed.get<std::string>();
+      for (const auto& k : keys.back())
+        if (k == key) throw Failure(where + ": key \"" + shortened(key) + "\" appears twice in the same JSON object", code);
+      keys.back().push_back(key);
+    }
+    return true;
+  };
+  try {
+    return nlohmann::json::parse(text, on_event);
+  } catch (const nlohmann::json::parse_error& e) {
+    throw Failure(where + ": not valid JSON (" + shortened(e.what()) + ")", code);
+  } catch (const nlohmann::json::out_of_range& e) {  // a number beyond double's range, e.g. 1e400
+    throw Failure(where + ": not usable JSON (" + shortened(e.what()) + ")", code);
+  }
+}
+
 void check(cpx_status status) {
   if (status != CPX_OK) throw Failure(cpx_last_error(), 1);
 }
@@ -119,23 +180,109 @@ bool path_exists(const std::string& path) {
   return ::stat(path.c_str(), &st) == 0;
 }
 
-void write_file_atomically(const std::string& path, const std::string& text) {
-  const std::string tmp = path + ".tmp-" + std::to_string(::getpid());
-  {
-    std::ofstream out(tmp, std::ios::binary | std::ios::trunc);
-    if (!out) throw Failure("cannot write '" + path + "': cannot create a file there");
-    out << text;
-    out.flush();
-    if (!out) {
-      out.close();
-      std::remove(tmp.c_str());
-      throw Failure("cannot write '" + path + "': write failed (disk full?)");
+namespace {
+// The command's own temporary (text outputs written here, not by the library), for the
+// signal handler: one C string and a flag, nothing allocated in the handler.
+char current_temporary[4096];
+volatile std::sig_atomic_t has_temporary = 0;
+
+void on_interrupt(int signal_number) {
+  cpx_remove_partial_files();
+  if (has_temporary) ::unlink(current_temporary);
+  ::signal(signal_number, SIG_DFL);
+  ::raise(signal_number);
+}
+
+std::string folder_of(const std::string& path) {
+  const auto slash = path.find_last_of('/');
+  if (slash == std::string::npos) return ".";
+  return slash == 0 ? "/" : path.substr(0, slash);
+}
+
+void make_folders(const std::string& dir) {
+  struct stat st;
+  for (std::size_t pos = dir.find('/', 1);; pos = dir.find('/', pos + 1)) {
+    const std::string prefix = dir.substr(0, pos);
+    if (::stat(prefix.c_str(), &st) == 0 && !S_ISDIR(st.st_mode))
+      throw Failure("cannot create folder '" + dir + "': '" + prefix + "' is a file, not a folder");
+    if (pos == std::string::npos) break;
+  }
+  std::error_code ec;
+  std::filesystem::create_directories(dir, ec);
+  if (ec) throw Failure("cannot create folder '" + dir + "': " + ec.message());
+}
+}  // namespace
+
+void install_interrupt_cleanup() {
+  struct sigaction action {};
+  action.sa_handler = on_interrupt;
+  sigemptyset(&action.sa_mask);
+  ::sigaction(SIGINT, &action, nullptr);
+  ::sigaction(SIGTERM, &action, nullptr);
+}
+
+std::string output_target(const std::string& path) {
+  struct stat st;
+  std::string target = path;
+  if (::lstat(path.c_str(), &st) == 0 && S_ISLNK(st.st_mode)) {
+    std::error_code ec;
+    target = std::filesystem::canonical(path, ec).string();
+    if (ec) throw Failure("cannot write '" + path + "': it is a symbolic link to a missing file or folder");
+  }
+  if (::stat(target.c_str(), &st) == 0) {
+    if (S_ISDIR(st.st_mode)) throw Failure("cannot write '" + path + "': it is a folder");
+    if (!S_ISREG(st.st_mode))
+      throw Failure("cannot write '" + path + "': not a regular file (a FIFO, device or socket); only regular files are written");
+  } else {
+    make_folders(folder_of(target));
+  }
+  return target;
+}
+
+void refuse_overwriting_inputs(const std::vector<std::string>& inputs, const std::vector<std::string>& outputs) {
+  for (const auto& out : outputs) {
+    struct stat o;
+    if (::stat(out.c_str(), &o) != 0) continue;  // a new file cannot be an input
+    for (const auto& in : inputs) {
+      struct stat i;
+      if (!in.empty() && ::stat(in.c_str(), &i) == 0 && i.st_dev == o.st_dev && i.st_ino == o.st_ino)
+        throw Failure("output '" + out + "' is the input '" + in + "' of this run; choose another output name", 2);
     }
   }
-  if (std::rename(tmp.c_str(), path.c_str()) != 0) {
-    std::remove(tmp.c_str());
-    throw Failure("cannot write '" + path + "': rename failed");
+}
+
+void write_file_atomically(const std::string& path, const std::string& text) {
+  const std::string target = output_target(path);
+  const std::string tmp = target + ".tmp-" + std::to_string(::getpid()) + "-0";
+  const bool tracked = tmp.size() < sizeof current_temporary;
+  if (tracked) {
+    std::memcpy(current_temporary, tmp.c_str(), tmp.size() + 1);
+    has_temporary = 1;
   }
+  auto give_up = [&](const std::string& why, int error) {
+    ::unlink(tmp.c_str());
+    has_temporary = 0;
+    throw Failure("cannot write '" + path + "': " + why + std::strerror(error));
+  };
+  const int fd = ::open(tmp.c_str(), O_WRONLY | O_CREAT | O_EXCL | O_CLOEXEC, 0666);
+  if (fd < 0) {
+    const int e = errno;
+    has_temporary = 0;
+    throw Failure("cannot write '" + path + "': " + std::strerror(e));
+  }
+  for (std::size_t done = 0; done < text.size();) {
+    const ssize_t n = ::write(fd, text.data() + done, text.size() - done);
+    if (n < 0 && errno == EINTR) continue;
+    if (n <= 0) {
+      const int e = errno;
+      ::close(fd);
+      give_up("", e);
+    }
+    done += static_cast<std::size_t>(n);
+  }
+  if (::close(fd) != 0) give_up("", errno);
+  if (std::rename(tmp.c_str(), target.c_str()) != 0) give_up("rename of the temporary file failed: ", errno);
+  has_temporary = 0;
 }
 
 std::string output_format(const Args& args, const std::string& out_path, const std::vector<std::string>& allowed) {
@@ -159,6 +306,7 @@ struct BarState {
   std::string label;
   std::chrono::steady_clock::time_point start = std::chrono::steady_clock::now();
   int last_permille = -1;
+  bool eta = false;
 };
 
 int draw_bar(double fraction, void* user) {
@@ -173,7 +321,7 @@ int draw_bar(double fraction, void* user) {
   std::string bar(static_cast<std::size_t>(filled), '#');
   bar.resize(width, '.');
   char eta[32] = "";
-  if (fraction > 0.01 && fraction < 1.0) std::snprintf(eta, sizeof eta, " eta %.0fs", elapsed * (1.0 - fraction) / fraction);
+  if (st->eta && fraction > 0.01 && fraction < 1.0) std::snprintf(eta, sizeof eta, " eta %.0fs", elapsed * (1.0 - fraction) / fraction);
   std::fprintf(stderr, "\r%s [%s] %5.1f%%%s   ", st->label.c_str(), bar.c_str(), permille / 10.0, eta);
   std::fflush(stderr);
   return 0;
@@ -181,10 +329,11 @@ int draw_bar(double fraction, void* user) {
 }  // namespace
 
 cpx_progress_fn progress_bar_if_terminal() { return ::isatty(2) ? draw_bar : nullptr; }
-void* progress_state(const std::string& label) {
+void* progress_state(const std::string& label, bool eta) {
   if (!::isatty(2)) return nullptr;
   auto* st = new BarState;
   st->label = label;
+  st->eta = eta;
   return st;
 }
 void progress_done(void* state) {

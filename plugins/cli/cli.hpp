@@ -3,6 +3,7 @@
 #pragma once
 
 #include <critplex/critplex.h>
+#include <nlohmann/json.hpp>
 
 #include <functional>
 #include <map>
@@ -57,11 +58,29 @@ struct Args {
 Args parse_args(const Command& command, int argc, char** argv);
 std::string help_text(const Command& command);
 
+// Deepest nesting of JSON arrays and objects the command reads (as the library's
+// kMaxJsonDepth): brackets are counted before parsing so hostile text cannot exhaust the stack.
+constexpr int kMaxJsonDepth = 64;
+// Parses JSON text from a flag or a file: Failure (exit `code`) starting with `where` when the
+// text is not JSON, nests deeper than kMaxJsonDepth or holds a key twice in one object.
+nlohmann::json parse_json_input(const std::string& text, const std::string& where, int code = 2);
+
 // Throws Failure with cpx_last_error() when status is not CPX_OK.
 void check(cpx_status status);
 
-// Writes text to path through a temporary file in the same folder, renamed into place.
+// Writes text to path through a temporary file in the same folder, renamed into place, with
+// the library's rules: missing folders created, a symbolic link followed (its target is
+// replaced), a folder, FIFO, device or socket refused.
 void write_file_atomically(const std::string& path, const std::string& text);
+// The file an output path names after following a symbolic link; Failure for a folder, FIFO,
+// device or socket; creates missing folders.
+std::string output_target(const std::string& path);
+// Failure (exit 2) when an existing output is one of the inputs (same device and inode, so
+// links and other spellings of the path are caught).
+void refuse_overwriting_inputs(const std::vector<std::string>& inputs, const std::vector<std::string>& outputs);
+// SIGINT/SIGTERM: remove the temporaries being written (library and command), then end
+// with the signal's default action.
+void install_interrupt_cleanup();
 // Folder of a path (".", when none), and whether a path exists.
 bool path_exists(const std::string& path);
 
@@ -71,7 +90,10 @@ std::string output_format(const Args& args, const std::string& out_path,
 
 // A progress callback drawing a bar on stderr when stderr is a terminal (else NULL).
 cpx_progress_fn progress_bar_if_terminal();
-void* progress_state(const std::string& label);
+// `eta`: show a remaining-time estimate. Only where the fraction measures work done (the
+// cohort: finished subjects); a sweep's fraction counts grid points, whose cost grows
+// steeply with density, so an estimate from it would mislead and none is shown.
+void* progress_state(const std::string& label, bool eta = false);
 void progress_done(void* state);
 
 }  // namespace critplex_cli

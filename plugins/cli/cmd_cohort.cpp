@@ -19,15 +19,11 @@ int run_cohort(const Args& args) {
     if (!in) throw Failure("cannot open '" + *path + "'");
     std::ostringstream ss;
     ss << in.rdbuf();
-    try {
-      config = nlohmann::json::parse(ss.str());
-    } catch (const nlohmann::json::parse_error& e) {
-      throw Failure("'" + *path + "': not valid JSON (" + e.what() + ")");
-    }
+    config = parse_json_input(ss.str(), "'" + *path + "'", 1);
   }
   nlohmann::json options = {{"workers", args.integer("workers", 0)}, {"force", args.has("force")}};
 
-  void* bar = progress_state("cohort");
+  void* bar = progress_state("cohort", true);
   char* summary_text = nullptr;
   cpx_status status = cpx_cohort_run(manifest.c_str(), config.dump().c_str(), out->c_str(), options.dump().c_str(),
                                      progress_bar_if_terminal(), bar, &summary_text);

@@ -24,11 +24,7 @@ nlohmann::json name_list(const std::string& v) {
 nlohmann::json compare_options(const Args& args) {
   nlohmann::json o = nlohmann::json::object();
   if (auto v = args.value("options")) {
-    try {
-      o = nlohmann::json::parse(*v);
-    } catch (const std::exception& e) {
-      throw Failure(std::string("--options: not valid JSON: ") + e.what(), 2);
-    }
+    o = parse_json_input(*v, "--options");
   }
   if (auto v = args.value("band")) o["band"] = *v;
   if (auto v = args.value("covariates")) o["covariates"] = name_list(*v);

@@ -48,12 +48,7 @@ nlohmann::json parse_json_flag(const std::string& flag, const std::string& text)
     ss << in.rdbuf();
     body = ss.str();
   }
-  nlohmann::json j;
-  try {
-    j = nlohmann::json::parse(body);
-  } catch (const std::exception& e) {
-    throw Failure("--" + flag + ": not valid JSON: " + e.what(), 2);
-  }
+  nlohmann::json j = parse_json_input(body, "--" + flag);
   if (!j.is_object()) throw Failure("--" + flag + " must be a JSON object", 2);
   return j;
 }
@@ -107,9 +102,10 @@ int run_connect(const Args& args) {
     if (brace != std::string::npos) {
       path.replace(brace, 6, band.empty() ? "all" : band);
     } else if (count > 1 || is_directory(path) || ends_with(path, "/")) {
-      if (!is_directory(path))
-        throw Failure("--out: several bands need a folder that exists or a name with {band}, e.g. "
-                      "sub-01_band-{band}_connectivity.tsv; got '" + path + "'", 2);
+      // A name ending in "/" is a folder, created when missing.
+      if (!is_directory(path) && !ends_with(path, "/"))
+        throw Failure("--out: several bands need a folder (an existing one, or a name ending in /) or a name "
+                      "with {band}, e.g. sub-01_band-{band}_connectivity.tsv; got '" + path + "'", 2);
       const std::string ext = args.value_or("format", "tsv");
       path += (ends_with(path, "/") ? "" : "/") + input_stem(input) +
               (band.empty() ? "" : "_band-" + band) + "_connectivity." + ext;
@@ -119,6 +115,12 @@ int run_connect(const Args& args) {
     paths.push_back(path);
     formats.push_back(output_format(args, path, {"tsv", "json", "npy"}));
   }
+
+  std::vector<std::string> inputs{input};
+  for (const char* flag : {"labels", "label-names"})
+    if (auto v = args.value(flag)) inputs.push_back(*v);
+  if (auto v = args.value("options"); v && !v->empty() && (*v)[0] == '@') inputs.push_back(v->substr(1));
+  refuse_overwriting_inputs(inputs, paths);
 
   for (size_t k = 0; k < count; ++k) {
     cpx_matrix* raw_matrix = nullptr;

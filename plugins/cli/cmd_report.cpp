@@ -18,7 +18,9 @@ int run_report(const Args& args) {
   }
   char stamp[32];
   std::time_t now = std::time(nullptr);
-  std::strftime(stamp, sizeof stamp, "%Y-%m-%d %H:%M UTC", std::gmtime(&now));
+  std::tm utc{};
+  ::gmtime_r(&now, &utc);  // reentrant form
+  std::strftime(stamp, sizeof stamp, "%Y-%m-%d %H:%M UTC", &utc);
   nlohmann::json options = {{"created", stamp}};
   if (auto out = args.value("out")) options["out"] = *out;
   char* path = nullptr;

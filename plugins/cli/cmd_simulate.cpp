@@ -12,11 +12,7 @@ int run_simulate(const Args& args) {
   if (!out) throw Failure("--out DIR is required", 2);
   nlohmann::json options = nlohmann::json::object();
   if (auto v = args.value("options")) {
-    try {
-      options = nlohmann::json::parse(*v);
-    } catch (const std::exception& e) {
-      throw Failure(std::string("--options: not valid JSON: ") + e.what(), 2);
-    }
+    options = parse_json_input(*v, "--options");
   }
   if (args.has("regions")) options["regions"] = args.integer("regions", 90);
   if (args.has("frames")) options["frames"] = args.integer("frames", 600);

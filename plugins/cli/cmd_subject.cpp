@@ -18,13 +18,9 @@ std::string read_text(const std::string& path) {
 }
 
 nlohmann::json parse_json_arg(const std::string& text, const std::string& what) {
-  try {
-    auto j = nlohmann::json::parse(text);
-    if (!j.is_object()) throw Failure(what + " must be a JSON object", 2);
-    return j;
-  } catch (const nlohmann::json::parse_error& e) {
-    throw Failure(what + ": not valid JSON (" + e.what() + ")", 2);
-  }
+  auto j = parse_json_input(text, what);
+  if (!j.is_object()) throw Failure(what + " must be a JSON object", 2);
+  return j;
 }
 
 int run_subject(const Args& args) {
@@ -47,7 +43,6 @@ int run_subject(const Args& args) {
   if (auto v = args.value("connect")) config["connect"] = parse_json_arg(*v, "--connect");
   if (auto v = args.value("sweep")) config["sweep"] = parse_json_arg(*v, "--sweep");
   if (auto v = args.value("null")) config["null"] = nlohmann::json{{"model", *v}};
-  if (!path_exists(*out)) throw Failure("output folder '" + *out + "' does not exist");
 
   void* bar = progress_state("subject");
   char* doc = nullptr;
@@ -68,7 +63,7 @@ const Registration registration{Command{
     "CONFIG.json holds the subject config (docs/options.md: subject); flags override its\n"
     "keys. Writes sub-<id>_topology.json (everything, with provenance) and TSV twins\n"
     "(connectivity, curves, transitions) into DIR, each file atomically.",
-    {{"out", "DIR", "output folder (required, must exist)"},
+    {{"out", "DIR", "output folder (required; created when missing)"},
      {"id", "ID", "subject id (letters, digits, '-', '.')"},
      {"group", "NAME", "group label carried into the outputs"},
      {"timeseries", "FILE", "regional time series (TSV, CSV, text or NPY)"},

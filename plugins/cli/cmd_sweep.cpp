@@ -16,11 +16,7 @@ int run_sweep(const Args& args) {
 
   nlohmann::json options = nlohmann::json::object();
   if (auto opts = args.value("options")) {
-    try {
-      options = nlohmann::json::parse(*opts);
-    } catch (const std::exception& e) {
-      throw Failure(std::string("--options: not valid JSON: ") + e.what(), 2);
-    }
+    options = parse_json_input(*opts, "--options");
     if (!options.is_object()) throw Failure("--options must be a JSON object", 2);
   }
   if (args.has("max-density")) options["max_density"] = args.number("max-density", 1.0);
@@ -76,6 +72,10 @@ int run_sweep(const Args& args) {
     transitions_tsv = summary;
     cpx_string_free(summary);
   }
+  std::vector<std::string> outputs{*out};
+  if (transitions_out) outputs.push_back(*transitions_out);
+  refuse_overwriting_inputs({input}, outputs);
+  for (const auto& o : outputs) output_target(o);  // both refused or fine before either is written
   write_file_atomically(*out, body);
   if (transitions_out) write_file_atomically(*transitions_out, transitions_tsv);
   return 0;

@@ -35,6 +35,7 @@ int main(int argc, char** argv) {
       std::fputs(help_text(command).c_str(), stdout);
       return 0;
     }
+  install_interrupt_cleanup();
   try {
     Args args = parse_args(command, argc - 2, argv + 2);
     return command.run(args);

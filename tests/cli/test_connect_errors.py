@@ -89,10 +89,12 @@ class ConnectErrors(unittest.TestCase):
 
     def test_unwritable_output(self):
         good = self.write("good.tsv", "a\tb\n1\t2\n2\t1\n3\t5\n")
-        target = os.path.join(self.dir.name, "no-such-folder", "m.tsv")
+        # Missing folders are created (issue 13); a folder path through a file is refused.
+        self.write("plain-file", "x")
+        target = os.path.join(self.dir.name, "plain-file", "m.tsv")
         p = subprocess.run([CLI, "connect", good, "--out", target], capture_output=True, text=True)
         self.assertNotEqual(p.returncode, 0)
-        self.assertIn("cannot write", p.stderr)
+        self.assertIn("'" + os.path.join(self.dir.name, "plain-file") + "' is a file, not a folder", p.stderr)
 
     def test_good_input_writes_tsv_and_json(self):
         good = self.write("good.tsv", "a\tb\tc\n1\t2\t0\n2\t1\t1\n3\t5\t0\n4\t4\t2\n")

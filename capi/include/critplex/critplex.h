@@ -104,6 +104,11 @@ CPX_API const char* cpx_status_name(cpx_status status);
  * cpx_status_name, nor a caller's buffer. Cannot fail.
  * Threads: any thread, once per string. Since 0.1. */
 CPX_API void cpx_string_free(char* text);
+/* Deletes the temporary files the library is writing at this moment (every output is
+ * written as "<path>.tmp-<pid>-<n>" and renamed into place). Async-signal-safe: meant for a
+ * SIGINT/SIGTERM handler of the host, which then ends the process (the interrupted calls
+ * must not continue). Outputs already renamed into place stay. Since 0.2. */
+CPX_API void cpx_remove_partial_files(void);
 
 /* cpx_build_info: what the loaded library was built with, as a JSON object:
  *   {"version", "abi", "compiler", "cplusplus", "assertions", "instruction_paths": [...],

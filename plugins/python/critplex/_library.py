@@ -71,6 +71,7 @@ SIGNATURES = {
     "cpx_last_error": ([], _c.c_char_p),
     "cpx_status_name": ([_c.c_int], _c.c_char_p),
     "cpx_string_free": ([_P], None),
+    "cpx_remove_partial_files": ([], None),
     "cpx_series_create": ([_P, _S, _S, _c.c_int, _P, _OUT], _c.c_int),
     "cpx_series_read": ([_c.c_char_p, _c.c_char_p, _OUT], _c.c_int),
     "cpx_series_free": ([_P], None),
