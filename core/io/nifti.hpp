@@ -34,6 +34,11 @@ struct ImageOptions {
 series::Series read_image_series(const std::string& image_path, const std::string& labels_path,
                                  const ImageOptions& options);
 
+// The sampling interval the image's header states, in seconds (NIfTI pixdim[4] with its
+// time unit, CIFTI SeriesStep in SECOND); NaN when the header states none. Reads only the
+// header (and the CIFTI XML), not the data.
+double image_header_sampling_interval(const std::string& image_path);
+
 // The image reading options (label_names, sampling_interval, label_map, memory_budget_mb)
 // and their table.
 const OptionSection& image_option_section();
