@@ -1,0 +1,308 @@
+"""`critplex dataset`: from `critplex simulate --layout bids` (no hand-written manifest) through
+the participant and group levels to the report.
+
+Checks against outside sources:
+- output names follow the BIDS specification's file name rules, written out here from the
+  specification (Common principles, "Filenames" and "Entities"; the entity order of its
+  schema, src/schema/rules/entities.yaml): <key>-<label> pairs joined by '_', labels and
+  suffixes alphanumeric, the extension from the first '.', each key at most once and in
+  the table's order;
+- connectivity without cleaning or filtering equals numpy.corrcoef of regional means that
+  nibabel + numpy compute from the same image and atlas (Debian python3-nibabel, python3-numpy);
+- the tidy tables are read by pandas.read_csv(sep="\t") with no other option (Debian
+  python3-pandas), n/a becoming NaN (pandas' default missing tokens include "n/a").
+Invented data throughout (the demo study's model).
+"""
+import json
+import os
+import re
+import shutil
+import subprocess
+import tempfile
+import unittest
+
+import numpy as np
+
+CLI = os.environ["CRITPLEX_CLI"]
+
+# BIDS specification, schema rules/entities.yaml: the order of entities in file names (keys).
+# Written from the specification for this test (not imported from critplex).
+SPEC_ENTITY_ORDER = ["sub", "tpl", "ses", "cohort", "sample", "task", "tracksys", "acq", "nuc", "voi", "ce", "trc",
+                     "stain", "rec", "dir", "run", "mod", "echo", "flip", "inv", "mt", "part", "proc", "hemi", "space",
+                     "split", "recording", "chunk", "atlas", "seg", "scale", "res", "den", "label", "prov", "desc"]
+# BIDS "Filenames": label = alphanumeric value; suffix = alphanumeric; extension starts at the first '.'.
+LABEL = re.compile(r"^[a-zA-Z0-9]+$")
+
+
+def check_bids_name(test, name):
+    """The specification's file name rules; returns (entities as list, suffix, extension)."""
+    stem, dot, ext = name.partition(".")
+    test.assertTrue(dot, f"{name}: no extension")
+    parts = stem.split("_")
+    suffix = parts[-1]
+    test.assertRegex(suffix, LABEL, f"{name}: suffix must be alphanumeric")
+    entities = []
+    for part in parts[:-1]:
+        key, dash, label = part.partition("-")
+        test.assertTrue(dash, f"{name}: '{part}' is not key-label")
+        test.assertIn(key, SPEC_ENTITY_ORDER, f"{name}: '{key}' is not a BIDS entity")
+        test.assertRegex(label, LABEL, f"{name}: label '{label}' must be alphanumeric")
+        entities.append((key, label))
+    keys = [k for k, _ in entities]
+    test.assertEqual(len(keys), len(set(keys)), f"{name}: an entity appears twice")
+    test.assertEqual(keys, sorted(keys, key=SPEC_ENTITY_ORDER.index), f"{name}: entities out of the specification's order")
+    test.assertEqual(keys[0], "sub", f"{name}: must start with sub-")
+    return entities, suffix, "." + ext
+
+
+def run(*args, ok=True):
+    p = subprocess.run([CLI, *args], capture_output=True, text=True)
+    if ok and p.returncode != 0:
+        raise AssertionError(f"{args} failed ({p.returncode}):\n{p.stdout}\n{p.stderr}")
+    return p
+
+
+class Dataset(unittest.TestCase):
+    @classmethod
+    def setUpClass(cls):
+        cls.tmp = tempfile.TemporaryDirectory()
+        cls.root = cls.tmp.name
+        cls.data = os.path.join(cls.root, "D")
+        run("simulate", "--layout", "bids", "--out", cls.data, "--subjects", "3", "--regions", "16", "--frames", "150")
+        cls.deriv = os.path.join(cls.data, "derivatives", "critplex-simulate")
+        cls.atlas = os.path.join(cls.deriv, "space-sleeplab_desc-demoatlas_dseg.nii.gz")
+        cls.labels = os.path.join(cls.deriv, "space-sleeplab_desc-demoatlas_dseg.tsv")
+        cls.config = os.path.join(cls.root, "config.json")
+        with open(os.path.join(cls.data, "cohort_config.json")) as f:
+            config = json.load(f)
+        config["null"]["count"] = 3
+        with open(cls.config, "w") as f:
+            json.dump(config, f)
+        cls.out = os.path.join(cls.root, "OUT")
+        cls.participant = run("dataset", cls.deriv, cls.out, "participant", "--atlas", cls.atlas, "--atlas-labels",
+                              cls.labels, "--config", cls.config)
+        cls.group = run("dataset", cls.deriv, cls.out, "group")
+
+    @classmethod
+    def tearDownClass(cls):
+        cls.tmp.cleanup()
+
+    def outputs(self):
+        found = []
+        for folder, _, files in os.walk(self.out):
+            rel = os.path.relpath(folder, self.out)
+            if rel.startswith("sub-"):
+                found += [os.path.join(rel, f) for f in files]
+        return sorted(found)
+
+    def test_runs_and_names(self):
+        self.assertIn("6 done, 0 skipped", self.participant.stdout)
+        files = self.outputs()
+        self.assertEqual(len(files), 6 * 7)  # per run: 3 TSVs + 3 sidecars + the topology document
+        for rel in files:
+            folder, name = os.path.split(rel)
+            entities, suffix, ext = check_bids_name(self, name)
+            e = dict(entities)
+            # BIDS derivatives folders: sub-<label>/[ses-<label>/]<datatype>/
+            self.assertEqual(folder, os.path.join("sub-" + e["sub"], "func"))
+            self.assertEqual(e["task"], "rest")
+            self.assertEqual(e["space"], "sleeplab")
+            self.assertEqual(e["atlas"], "demoatlas")
+            self.assertIn(suffix, {"connectivity", "curves", "transitions", "topology"})
+            if suffix == "topology":
+                self.assertEqual(ext, ".json")
+                self.assertNotIn("desc", e)
+            else:
+                self.assertIn(ext, {".tsv", ".json"})
+                self.assertEqual(e["desc"], "filtered")  # the demo config's one unnamed band-pass band
+            self.assertNotEqual(e.get("desc"), "preproc", "the input's desc must not be carried over")
+
+    def test_dataset_description(self):
+        with open(os.path.join(self.out, "dataset_description.json")) as f:
+            d = json.load(f)
+        # BIDS "Derivatives": DatasetType derivative and GeneratedBy (REQUIRED for derivatives).
+        self.assertEqual(d["DatasetType"], "derivative")
+        self.assertTrue(d["BIDSVersion"])
+        self.assertEqual(d["GeneratedBy"][0]["Name"], "critplex")
+        self.assertTrue(d["GeneratedBy"][0]["Version"])
+        self.assertEqual(d["GeneratedBy"][0]["Configuration"]["config"]["null"]["count"], 3)
+
+    def test_every_tsv_has_a_sidecar_describing_its_columns(self):
+        import pandas
+        tsvs = [f for f in self.outputs() if f.endswith(".tsv")]
+        tsvs += ["group/curves_long.tsv", "group/summaries.tsv"]
+        for rel in tsvs:
+            path = os.path.join(self.out, rel)
+            with open(path[:-4] + ".json") as f:
+                sidecar = json.load(f)
+            table = pandas.read_csv(path, sep="\t")
+            for column in table.columns:
+                self.assertIn(column, sidecar, f"{rel}: column {column} not described")
+                self.assertTrue(sidecar[column]["Description"])
+
+    def test_tidy_tables_with_pandas(self):
+        import pandas
+        long = pandas.read_csv(os.path.join(self.out, "group", "curves_long.tsv"), sep="\t")
+        self.assertEqual(list(long.columns), ["subject", "session", "task", "run", "group", "band", "density", "measure", "value"])
+        self.assertTrue(long["session"].isna().all())  # n/a: the dataset has no sessions
+        self.assertEqual(long["value"].dtype.kind, "f")
+        self.assertEqual(long["density"].dtype.kind, "f")
+        self.assertEqual(long["subject"].nunique(), 6)
+        self.assertEqual(set(long["group"]), {"rested", "deprived"})
+        # The long table holds exactly each run's curves table, melted.
+        name = "sub-rested02_task-rest_space-sleeplab_atlas-demoatlas_desc-filtered_curves.tsv"
+        wide = pandas.read_csv(os.path.join(self.out, "sub-rested02", "func", name), sep="\t")
+        mine = long[long["subject"] == "rested02"]
+        melted = wide.melt(id_vars="density", var_name="measure", value_name="value")
+        self.assertEqual(len(mine), len(melted))
+        np.testing.assert_array_equal(mine["value"].to_numpy(), melted.sort_index(kind="stable")
+                                      .set_index(["density", "measure"]).loc[list(zip(mine["density"], mine["measure"]))]
+                                      ["value"].to_numpy())
+        summaries = pandas.read_csv(os.path.join(self.out, "group", "summaries.tsv"), sep="\t")
+        self.assertEqual(len(summaries), 6)  # one row per subject and run
+        for column in summaries.columns:
+            self.assertRegex(column, r"^[a-z0-9_]+$", "machine names: no spaces")
+        self.assertEqual(summaries["first_chi_zero"].dtype.kind, "f")
+
+    def test_group_comparison_and_report(self):
+        self.assertTrue(os.path.exists(os.path.join(self.out, "group", "group_comparison.json")), self.group.stderr)
+        self.assertTrue(os.path.exists(os.path.join(self.out, "group", "group_tests.tsv")))
+        run("report", os.path.join(self.out, "group"))
+        self.assertTrue(os.path.exists(os.path.join(self.out, "group", "report.html")))
+
+    def test_rerun_skips_unchanged(self):
+        p = run("dataset", self.deriv, self.out, "participant", "--atlas", self.atlas, "--atlas-labels", self.labels,
+                "--config", self.config, "--participant-label", "sub-rested01")
+        self.assertIn("0 done, 1 skipped", p.stdout)
+
+
+class Connectivity(unittest.TestCase):
+    """Without cleaning or filtering, the dataset mode's matrix is Pearson's r of the regional
+    means. reference: nibabel (image and atlas reading) + numpy (means, numpy.corrcoef)."""
+
+    def test_matches_nibabel_numpy(self):
+        import nibabel
+        with tempfile.TemporaryDirectory() as root:
+            data = os.path.join(root, "D")
+            run("simulate", "--layout", "bids", "--out", data, "--subjects", "1", "--regions", "12", "--frames", "100")
+            deriv = os.path.join(data, "derivatives", "critplex-simulate")
+            atlas = os.path.join(deriv, "space-sleeplab_desc-demoatlas_dseg.nii.gz")
+            config = os.path.join(root, "c.json")
+            with open(config, "w") as f:
+                json.dump({"connect": {"method": "pearson"}, "sweep": {"max_density": 0.2, "grid": 0.05}}, f)
+            out = os.path.join(root, "OUT")
+            run("dataset", deriv, out, "participant", "--atlas", atlas, "--config", config, "--participant-label", "rested01")
+            func = os.path.join(deriv, "sub-rested01", "func")
+            img = nibabel.load(os.path.join(func, "sub-rested01_task-rest_space-sleeplab_desc-preproc_bold.nii.gz"))
+            values = np.asarray(img.get_fdata(), dtype=float)
+            labels = np.asarray(nibabel.load(atlas).get_fdata()).astype(int)
+            ids = sorted(set(labels.ravel()) - {0})
+            means = np.stack([values[labels == k].mean(axis=0) for k in ids], axis=1)
+            expected = np.corrcoef(means, rowvar=False)
+            name = "sub-rested01_task-rest_space-sleeplab_atlas-demoatlas_desc-unfiltered_connectivity.tsv"
+            with open(os.path.join(out, "sub-rested01", "func", name)) as f:
+                rows = [line.rstrip("\n").split("\t") for line in f]
+            got = np.array([[float(x) for x in row[1:]] for row in rows[1:]])
+            np.testing.assert_allclose(got, expected, atol=1e-10)
+
+
+class Inputs(unittest.TestCase):
+    """Sidecars, confounds, sessions, filters and refusals on a small simulated dataset."""
+
+    def setUp(self):
+        self.tmp = tempfile.TemporaryDirectory()
+        self.root = self.tmp.name
+        self.data = os.path.join(self.root, "D")
+        run("simulate", "--layout", "bids", "--out", self.data, "--subjects", "2", "--regions", "10", "--frames", "80",
+            "--sessions", "2")
+        self.deriv = os.path.join(self.data, "derivatives", "critplex-simulate")
+        self.atlas = os.path.join(self.deriv, "space-sleeplab_desc-demoatlas_dseg.nii.gz")
+        self.config = os.path.join(self.root, "c.json")
+        with open(self.config, "w") as f:
+            json.dump({"connect": {"method": "pearson", "clean": {"regressor_columns": ["motion_*", "csf"]}},
+                       "sweep": {"max_density": 0.3, "grid": 0.05}}, f)
+        self.out = os.path.join(self.root, "OUT")
+        self.func = os.path.join(self.deriv, "sub-rested01", "ses-02", "func")
+        self.stem = os.path.join(self.func, "sub-rested01_ses-02_task-rest")
+
+    def tearDown(self):
+        self.tmp.cleanup()
+
+    def dataset(self, *extra, ok=True):
+        return run("dataset", self.deriv, self.out, "participant", "--atlas", self.atlas, "--config", self.config,
+                   *extra, ok=ok)
+
+    def test_sessions_and_filters(self):
+        p = self.dataset("--participant-label", "rested01", "deprived02", "--session", "02", "--task", "rest")
+        self.assertIn("2 done", p.stdout)
+        names = sorted(os.listdir(os.path.join(self.out, "sub-rested01", "ses-02", "func")))
+        self.assertIn("sub-rested01_ses-02_task-rest_space-sleeplab_atlas-demoatlas_topology.json", names)
+        for name in names:
+            self.assertEqual(check_bids_name(self, name)[0][1], ("ses", "02"))
+        self.assertFalse(os.path.exists(os.path.join(self.out, "sub-rested01", "ses-01")))
+        self.assertFalse(os.path.exists(os.path.join(self.out, "sub-rested02")))
+        g = run("dataset", self.deriv, self.out, "group")
+        import pandas
+        s = pandas.read_csv(os.path.join(self.out, "group", "summaries.tsv"), sep="\t", dtype={"session": str})
+        self.assertEqual(list(s["session"]), ["02", "02"])
+        # A filter that matches nothing is an error naming the filter.
+        p = self.dataset("--task", "nback", ok=False)
+        self.assertNotEqual(p.returncode, 0)
+        self.assertIn("task nback", p.stderr)
+
+    def test_dry_run_writes_nothing(self):
+        p = self.dataset("--dry-run")
+        self.assertIn("8 runs would run", p.stdout)
+        self.assertIn("desc-confounds_timeseries.tsv", p.stdout)
+        self.assertFalse(os.path.exists(self.out))
+
+    def test_sidecar_wins_over_header_with_a_warning(self):
+        with open(self.stem + "_space-sleeplab_desc-preproc_bold.json") as f:
+            sidecar = json.load(f)
+        sidecar["RepetitionTime"] = 2.0  # the header says 0.8
+        with open(self.stem + "_space-sleeplab_desc-preproc_bold.json", "w") as f:
+            json.dump(sidecar, f)
+        p = self.dataset("--participant-label", "rested01", "--session", "02")
+        self.assertIn("0.8", p.stderr)
+        self.assertIn("2 s", p.stderr)
+        self.assertIn("sub-rested01_ses-02_task-rest_space-sleeplab_desc-preproc_bold.json", p.stderr)
+        with open(os.path.join(self.out, "sub-rested01", "ses-02", "func",
+                               "sub-rested01_ses-02_task-rest_space-sleeplab_atlas-demoatlas_topology.json")) as f:
+            self.assertEqual(json.load(f)["series"]["sampling_interval"], 2.0)
+
+    def refused(self, *needles):
+        p = self.dataset(ok=False)
+        self.assertNotEqual(p.returncode, 0)
+        for needle in needles:
+            self.assertIn(needle, p.stderr)
+        self.assertFalse(os.path.exists(self.out), "bad input must leave no output")
+
+    def test_missing_sidecar(self):
+        os.remove(self.stem + "_space-sleeplab_desc-preproc_bold.json")
+        self.refused("sub-rested01_ses-02_task-rest_space-sleeplab_desc-preproc_bold.json", "missing")
+
+    def test_sidecar_without_repetition_time(self):
+        with open(self.stem + "_space-sleeplab_desc-preproc_bold.json", "w") as f:
+            json.dump({"TaskName": "rest"}, f)
+        self.refused("sub-rested01_ses-02_task-rest_space-sleeplab_desc-preproc_bold.json", "RepetitionTime")
+
+    def test_missing_confounds(self):
+        os.remove(self.stem + "_desc-confounds_timeseries.tsv")
+        self.refused("sub-rested01_ses-02_task-rest_desc-confounds_timeseries.tsv", "missing")
+
+    def test_atlas_on_another_grid(self):
+        # The atlas of a study with other regions: another grid. The runs fail with a
+        # message naming both files; none of their outputs is written.
+        other = os.path.join(self.root, "O")
+        run("simulate", "--layout", "bids", "--out", other, "--subjects", "1", "--regions", "30", "--frames", "20")
+        self.atlas = os.path.join(other, "derivatives", "critplex-simulate", "space-sleeplab_desc-demoatlas_dseg.nii.gz")
+        p = self.dataset("--participant-label", "rested01", ok=False)
+        self.assertEqual(p.returncode, 1)
+        self.assertIn("0 done", p.stdout)
+        self.assertIn("grid", p.stderr)
+        self.assertIn(self.atlas, p.stderr)
+        self.assertFalse(os.path.exists(os.path.join(self.out, "sub-rested01")))
+
+
+if __name__ == "__main__":
+    unittest.main()
