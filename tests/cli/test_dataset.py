@@ -304,5 +304,26 @@ class Inputs(unittest.TestCase):
         self.assertFalse(os.path.exists(os.path.join(self.out, "sub-rested01")))
 
 
+class PythonBinding(unittest.TestCase):
+    """critplex.run_dataset (plugins/python) over cpx_dataset_run."""
+
+    def test_dry_run_and_refusal(self):
+        import critplex
+        with tempfile.TemporaryDirectory() as root:
+            data = os.path.join(root, "D")
+            critplex.simulate_study(data, layout="bids", regions=8, frames=40)
+            deriv = os.path.join(data, "derivatives", "critplex-simulate")
+            atlas = os.path.join(deriv, "space-sleeplab_desc-demoatlas_dseg.nii.gz")
+            s = critplex.run_dataset(deriv, os.path.join(root, "OUT"), "participant", atlas=atlas, dry_run=True,
+                                     participant_label=["rested01", "deprived02"],
+                                     config={"connect": {"method": "pearson"}})
+            self.assertEqual([r["subject"] for r in s["runs"]], ["deprived02", "rested01"])
+            self.assertEqual(s["runs"][0]["repetition_time"], 0.8)
+            self.assertFalse(os.path.exists(os.path.join(root, "OUT")))
+            with self.assertRaises(critplex.CritplexError) as e:
+                critplex.run_dataset(deriv, os.path.join(root, "OUT"), "everything")
+            self.assertIn("participant", str(e.exception))
+
+
 if __name__ == "__main__":
     unittest.main()
