@@ -184,9 +184,11 @@ Json planned_outputs(const PlannedRun& p) {
   if (bands.empty()) bands.push_back("");
   for (const auto& band : bands)
     for (const char* suffix : {"connectivity", "curves", "transitions"}) {
+      const auto& sweep = p.config.sweep;  // the transitions engine runs when chi or Betti curves exist
+      if (std::string(suffix) == "transitions" && !(sweep.transitions.enabled && (sweep.cliques || sweep.homology))) continue;
       Entities e = p.base;
       e.emplace_back("desc", band_label(band, p.config));
-      names.push_back(p.run.folder + "/" + format_bids_name(e, suffix, ".tsv"));
+      for (const char* extension : {".tsv", ".json"}) names.push_back(p.run.folder + "/" + format_bids_name(e, suffix, extension));
     }
   names.push_back(p.run.folder + "/" + format_bids_name(p.base, "topology", ".json"));
   return names;
