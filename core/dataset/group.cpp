@@ -25,7 +25,9 @@ const OptionSection& group_option_section() {
       "dataset group options",
       "cpx_dataset_run (level group), critplex dataset DERIVATIVES OUT group",
       "The tidy tables and the group comparison of a dataset's finished runs.",
-      {{.key = "compare", .type = "object", .meaning = "options of the group comparison (section compare)"}}};
+      {{.key = "compare", .type = "object", .meaning = "options of the group comparison (section compare)"},
+       {.key = "compare_session", .type = "string", .default_value = "",
+        .meaning = "compare the runs of this session only (needed when participants have several sessions)"}}};
   return section;
 }
 
@@ -197,6 +199,7 @@ Json run_group_level(const std::string& derivatives_dir, const std::string& out_
     if (!c->is_object()) r.bad("compare", "an object");
     compare_given = *c;
   }
+  const std::string compare_session = r.text("compare_session");
   r.finish();
   const pipeline::CompareOptions compare_options = pipeline::parse_compare_options(compare_given);
   const Participants participants = read_participants(derivatives_dir);
@@ -212,11 +215,24 @@ Json run_group_level(const std::string& derivatives_dir, const std::string& out_
 
   Json summary = {{"level", "group"}, {"runs", runs.size()}, {"compared", false}};
   const bool has_group = std::find(participants.columns.begin(), participants.columns.end(), "group") != participants.columns.end();
-  if (has_group) {
+  // The comparison treats runs as independent participants: one run each, so a
+  // participant with several sessions or runs would count several times.
+  std::map<std::string, std::size_t> runs_of;
+  for (const auto& run : runs)
+    if (compare_session.empty() || run.session == compare_session) ++runs_of[run.subject];
+  std::string repeated;
+  for (const auto& [subject, n] : runs_of)
+    if (n > 1 && repeated.empty()) repeated = subject + " has " + std::to_string(n) + " runs";
+  if (has_group && !repeated.empty()) {
+    summary["note"] = "no group comparison: participant " + repeated +
+                      " (the comparison takes one run per participant; choose a session with \"compare_session\")";
+  } else if (has_group) {
     // The comparison takes one band: the one named in the options, else the first.
     const std::string wanted = compare_options.band;
     std::vector<output::SubjectRecord> records;
-    for (const auto& run : runs) records.push_back(output::read_subject_record(run.path, wanted));
+    for (const auto& run : runs)
+      if (compare_session.empty() || run.session == compare_session)
+        records.push_back(output::read_subject_record(run.path, wanted));
     for (auto& rec : records)
       if (const auto row = participants.rows.find(rec.id); row != participants.rows.end()) rec.group = row->second.at("group");
     for (const auto& rec : records)
@@ -232,7 +248,7 @@ Json run_group_level(const std::string& derivatives_dir, const std::string& out_
       if (e.kind() != ErrorKind::data) throw;
       summary["note"] = std::string("no group comparison: ") + e.what();
     }
-  } else {
+  } else if (!has_group) {
     summary["note"] = participants.path.empty() ? "no participants.tsv found: no group comparison"
                                                 : "'" + participants.path + "' has no group column: no group comparison";
   }

@@ -96,7 +96,7 @@ void add_participant_fields(Json& config, const Participants& table, const std::
   Json covariates = Json::object();
   for (const auto& column : table.columns) {
     if (column == "group") {
-      config["group"] = row->second.at(column);
+      if (row->second.at(column) != "n/a") config["group"] = row->second.at(column);
       continue;
     }
     bool numeric = true;

@@ -110,7 +110,9 @@ std::vector<Product> product_files(const pipeline::SubjectResult& r, const pipel
 
 Json dataset_description(const std::string& derivatives_dir, const ParticipantOptions& o) {
   Json options = {{"atlas", o.atlas}, {"atlas_labels", o.atlas_labels}, {"atlas_label", o.atlas_label}, {"config", o.config}};
-  return {{"Name", "critplex network topology of " + fs::path(derivatives_dir).lexically_normal().filename().string()},
+  fs::path source = fs::absolute(derivatives_dir).lexically_normal();
+  if (!source.has_filename()) source = source.parent_path();  // "D/derivatives/x/" -> ".../x"
+  return {{"Name", "critplex network topology of " + source.filename().string()},
           {"BIDSVersion", bids_version},
           {"DatasetType", "derivative"},
           {"GeneratedBy", Json::array({{{"Name", "critplex"},
@@ -118,7 +120,7 @@ Json dataset_description(const std::string& derivatives_dir, const ParticipantOp
                                         {"Description", "Connectivity, clique counts, Euler characteristic, Betti curves, "
                                                         "curvature and transitions of each run's functional network"},
                                         {"Configuration", options}}})},
-          {"SourceDatasets", Json::array({{{"URL", "file://" + fs::absolute(derivatives_dir).lexically_normal().string()}}})},
+          {"SourceDatasets", Json::array({{{"URL", "file://" + source.string()}}})},
           {"Caution", "Research software, not a medical device: not for clinical decisions."}};
 }
 

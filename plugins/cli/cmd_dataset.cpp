@@ -80,10 +80,12 @@ int run_dataset(const Args& args) {
       if (args.has(flag)) throw Failure(std::string("--") + flag + " applies to the participant level only", 2);
     options = nlohmann::json::object();
     if (auto v = args.value("compare-options")) options["compare"] = read_json_file(*v);
+    if (auto v = args.value("compare-session")) options["compare_session"] = *v;
   } else {
     throw Failure("LEVEL must be participant or group, got '" + level + "'", 2);
   }
-  if (level == "participant" && args.has("compare-options")) throw Failure("--compare-options applies to the group level only", 2);
+  if (level == "participant" && (args.has("compare-options") || args.has("compare-session")))
+    throw Failure("--compare-options and --compare-session apply to the group level only", 2);
   void* bar = progress_state("dataset");
   char* text = nullptr;
   const cpx_status status = cpx_dataset_run(derivatives.c_str(), out.c_str(), level.c_str(), options.dump().c_str(),
@@ -124,7 +126,8 @@ const Registration registration{Command{
      {"config", "FILE", "shared subject config (JSON: connect, sweep, null, read)"},
      {"dry-run", "", "list the runs, their inputs and outputs; write nothing"},
      {"force", "", "recompute unchanged runs too"},
-     {"compare-options", "FILE", "group level: compare options (JSON)"}},
+     {"compare-options", "FILE", "group level: compare options (JSON)"},
+     {"compare-session", "LABEL", "group level: compare the runs of this session (one run per participant)"}},
     3,
     3,
     run_dataset}};

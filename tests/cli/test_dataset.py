@@ -250,6 +250,19 @@ class Inputs(unittest.TestCase):
         self.assertNotEqual(p.returncode, 0)
         self.assertIn("task nback", p.stderr)
 
+    def test_sessions_in_the_group_comparison(self):
+        self.dataset()
+        g = run("dataset", self.deriv, self.out, "group")
+        self.assertIn("has 2 runs", g.stderr)  # one run per participant, or the comparison would count them twice
+        self.assertFalse(os.path.exists(os.path.join(self.out, "group", "group_comparison.json")))
+        import pandas
+        long = pandas.read_csv(os.path.join(self.out, "group", "curves_long.tsv"), sep="\t", dtype={"session": str})
+        self.assertEqual(sorted(set(long["session"])), ["01", "02"])
+        run("dataset", self.deriv, self.out, "group", "--compare-session", "01")
+        with open(os.path.join(self.out, "group", "group_comparison.json")) as f:
+            groups = json.load(f)["groups"]
+        self.assertEqual(sorted(len(g["subjects"]) for g in groups), [2, 2])
+
     def test_dry_run_writes_nothing(self):
         p = self.dataset("--dry-run")
         self.assertIn("8 runs would run", p.stdout)

@@ -361,9 +361,10 @@ CPX_API cpx_status cpx_simulate_study(const char* options_json, const char* dir,
  * fails later is listed with its reason and the others go on. level "group": reads the
  * finished runs in out_dir and writes out_dir/group/curves_long.tsv and summaries.tsv (with
  * sidecars), plus group_comparison.json and group_tests.tsv when participants.tsv has a
- * group column; options {"compare": {compare options}}. summary_json (free with
- * cpx_string_free): {"level", "runs", "done", "skipped", "failed", "warnings", ...}; NULL on
- * failure. progress may be NULL. Independent calls on different folders: safe in parallel. */
+ * group column (one run per participant: with several sessions, "compare_session" picks
+ * one); options {"compare": {compare options}, "compare_session": ""}. summary_json (free
+ * with cpx_string_free): {"level", "runs", "done", "skipped", "failed", "warnings", ...};
+ * NULL on failure. progress may be NULL. Independent calls on different folders: safe in parallel. */
 CPX_API cpx_status cpx_dataset_run(const char* derivatives_dir, const char* out_dir, const char* level,
                                    const char* options_json, cpx_progress_fn progress, void* user, char** summary_json);
 
