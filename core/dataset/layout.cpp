@@ -14,8 +14,20 @@ namespace fs = std::filesystem;
 
 namespace {
 
-bool is_image_extension(const std::string& ext) {
-  return ext == ".nii" || ext == ".nii.gz" || ext == ".dtseries.nii" || ext == ".ptseries.nii";
+bool is_cifti_extension(const std::string& ext) { return ext == ".dtseries.nii" || ext == ".ptseries.nii"; }
+
+bool is_image_extension(const std::string& ext) { return ext == ".nii" || ext == ".nii.gz" || is_cifti_extension(ext); }
+
+// The JSON sidecar: the image's name with .json (BIDS); for CIFTI also .dtseries.json /
+// .ptseries.json, which some pipelines write. The first that exists, else the BIDS name.
+std::string sidecar_of(const fs::path& func, const BidsName& image) {
+  const std::string bids = (func / format_bids_name(image.entities, image.suffix, ".json")).string();
+  if (is_cifti_extension(image.extension) && !fs::exists(bids)) {
+    const std::string kind = image.extension.substr(0, image.extension.size() - 4);  // ".dtseries"
+    const std::string other = (func / format_bids_name(image.entities, image.suffix, kind + ".json")).string();
+    if (fs::exists(other)) return other;
+  }
+  return bids;
 }
 
 std::string without_prefix(const std::string& label, const std::string& prefix) {
@@ -73,8 +85,10 @@ std::vector<Run> find_runs(const std::string& derivatives_dir, RunFilter filter)
       if (!fs::is_directory(func, ec)) continue;
       for (const auto& file : fs::directory_iterator(func)) {
         const auto name = parse_bids_name(file.path().filename().string());
-        if (!name || name->suffix != "bold" || name->get("desc") != "preproc" || !is_image_extension(name->extension))
-          continue;
+        if (!name || name->suffix != "bold" || !is_image_extension(name->extension)) continue;
+        // Volumes must say desc-preproc; CIFTI series of preprocessing pipelines often carry no desc.
+        const bool cifti = is_cifti_extension(name->extension);
+        if (!(name->get("desc") == "preproc" || (cifti && name->get("desc").empty()))) continue;
         if (name->get("sub") != sub.substr(4)) continue;  // a file of another subject in the wrong folder
         if (!filter.sessions.empty() && !wanted(filter.sessions, name->get("ses"))) continue;
         if (!filter.task.empty() && name->get("task") != filter.task) continue;
@@ -82,8 +96,7 @@ std::vector<Run> find_runs(const std::string& derivatives_dir, RunFilter filter)
         Run run;
         run.name = *name;
         run.image = file.path().string();
-        BidsName sidecar = *name;
-        run.sidecar = (func / format_bids_name(sidecar.entities, "bold", ".json")).string();
+        run.sidecar = sidecar_of(func, *name);
         run.confounds = (func / confounds_name(*name)).string();
         run.folder = fs::relative(func, derivatives_dir).generic_string();
         runs.push_back(std::move(run));

@@ -1,6 +1,7 @@
 // Finding the runs of a preprocessed BIDS derivatives folder: every
 // sub-<label>/[ses-<label>/]func/*_desc-preproc_bold image (NIfTI-1/2 .nii/.nii.gz, CIFTI-2
-// .dtseries.nii/.ptseries.nii), its JSON sidecar (same name, .json) and its confounds table
+// .dtseries.nii/.ptseries.nii; CIFTI series may also carry no desc), its JSON sidecar
+// (same name, .json; for CIFTI also .dtseries.json/.ptseries.json) and its confounds table
 // (the run's entities without space/res/den/desc, then desc-confounds_timeseries.tsv).
 // Filters by participant, session, task and space. Reading only; nothing is written.
 #pragma once

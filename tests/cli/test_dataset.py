@@ -317,6 +317,96 @@ class Inputs(unittest.TestCase):
         self.assertFalse(os.path.exists(os.path.join(self.out, "sub-rested01")))
 
 
+class Cifti(unittest.TestCase):
+    """CIFTI-2 runs written by nibabel (Debian python3-nibabel) in a derivatives layout: a
+    parcellated series read as regions with their names, and a dense series with a dense
+    label atlas. reference: nibabel's data and axes, numpy means and numpy.corrcoef."""
+
+    @classmethod
+    def setUpClass(cls):
+        import nibabel
+        from nibabel import cifti2
+        cls.tmp = tempfile.TemporaryDirectory()
+        # Parcellated and dense runs in two derivatives folders (a dense run needs an atlas).
+        cls.pt_deriv = os.path.join(cls.tmp.name, "deriv-pt")
+        cls.dt_deriv = os.path.join(cls.tmp.name, "deriv-dt")
+        rng = np.random.default_rng(17)  # invented values
+        frames = 120
+        series = cifti2.SeriesAxis(start=0.0, step=0.72, size=frames, unit="second")
+        left = np.zeros(30, bool)
+        left[::2] = True
+        cls.brain = cifti2.BrainModelAxis.from_mask(left, name="CortexLeft")
+        cls.names = ["L frontal", "L parietal & more", "L occipital \u00e9t\u00e9"]
+        parcels = cifti2.ParcelsAxis.from_brain_models([(n, cls.brain[3 * i:3 * i + 5]) for i, n in enumerate(cls.names)])
+        shared = rng.standard_normal((frames, 1))
+        for sub in ("01", "02"):
+            name = f"sub-{sub}_task-rest_space-fsLR_den-91k"
+            pt_func, dt_func = (os.path.join(d, f"sub-{sub}", "func") for d in (cls.pt_deriv, cls.dt_deriv))
+            os.makedirs(pt_func)
+            os.makedirs(dt_func)
+            pt = (rng.standard_normal((frames, 3)) + shared * [1.0, 0.5, 0.2] + 40).astype(np.float32)
+            cifti2.Cifti2Image(pt, header=(series, parcels)).to_filename(os.path.join(pt_func, name + "_bold.ptseries.nii"))
+            dt = (rng.standard_normal((frames, len(cls.brain))) + shared + 90).astype(np.float32)
+            cifti2.Cifti2Image(dt, header=(series, cls.brain)).to_filename(
+                os.path.join(dt_func, name + "_desc-preproc_bold.dtseries.nii"))
+            # one sidecar as BIDS names it, one as some pipelines do (.ptseries.json)
+            with open(os.path.join(pt_func, name + ("_bold.json" if sub == "01" else "_bold.ptseries.json")), "w") as f:
+                json.dump({"RepetitionTime": 0.72}, f)
+            with open(os.path.join(dt_func, name + "_desc-preproc_bold.json"), "w") as f:
+                json.dump({"RepetitionTime": 0.72}, f)
+        cls.keys = rng.choice([0, 4, 9], size=len(cls.brain), p=[0.2, 0.4, 0.4]).astype(np.float32)
+        table = {0: ("???", (0, 0, 0, 0)), 4: ("frontal", (1, 0, 0, 1)), 9: ("occipital", (0, 0, 1, 1))}
+        cls.dlabel = os.path.join(cls.tmp.name, "atlas.dlabel.nii")
+        cifti2.Cifti2Image(cls.keys[None, :], header=(cifti2.LabelAxis(["parcellation"], table), cls.brain)).to_filename(cls.dlabel)
+        cls.nib = nibabel
+
+    @classmethod
+    def tearDownClass(cls):
+        cls.tmp.cleanup()
+
+    def connectivity(self, out, sub, name):
+        with open(os.path.join(out, f"sub-{sub}", "func", name)) as f:
+            rows = [line.rstrip("\n").split("\t") for line in f]
+        return rows[0][1:], np.array([[float(x) for x in row[1:]] for row in rows[1:]])
+
+    def test_parcellated_series_keeps_region_names(self):
+        out = os.path.join(self.tmp.name, "OUT-pt")
+        config = os.path.join(self.tmp.name, "pt.json")
+        with open(config, "w") as f:
+            json.dump({"connect": {"method": "pearson"}, "sweep": {"max_density": 0.7, "grid": 0.34}}, f)
+        p = run("dataset", self.pt_deriv, out, "participant", "--atlas-label", "demoparcels", "--config", config)
+        self.assertIn("2 done", p.stdout)
+        self.assertEqual(p.stderr, "")  # header and sidecars agree on 0.72 s
+        for sub in ("01", "02"):
+            names, got = self.connectivity(out, sub, f"sub-{sub}_task-rest_space-fsLR_atlas-demoparcels_den-91k_"
+                                                     "desc-unfiltered_connectivity.tsv")  # atlas before den (entity order)
+            img = self.nib.load(os.path.join(self.pt_deriv, f"sub-{sub}", "func",
+                                             f"sub-{sub}_task-rest_space-fsLR_den-91k_bold.ptseries.nii"))
+            self.assertEqual(names, [str(x) for x in img.header.get_axis(1).name])  # reference: ParcelsAxis.name
+            self.assertEqual(names, self.names)
+            np.testing.assert_allclose(got, np.corrcoef(np.asarray(img.get_fdata()), rowvar=False), atol=1e-10)
+
+    def test_dense_series_with_dense_label_atlas(self):
+        out = os.path.join(self.tmp.name, "OUT-dt")
+        config = os.path.join(self.tmp.name, "dt.json")
+        with open(config, "w") as f:
+            json.dump({"connect": {"method": "pearson"}, "sweep": {"max_density": 1.0, "grid": 1.0}}, f)
+        p = run("dataset", self.dt_deriv, out, "participant", "--atlas", self.dlabel, "--config", config)
+        self.assertIn("2 done", p.stdout)
+        # A dense run without an atlas is refused before anything is written, naming the run.
+        p = run("dataset", self.dt_deriv, out + "2", "participant", "--config", config, ok=False)
+        self.assertIn("sub-01_task-rest_space-fsLR_den-91k_desc-preproc_bold.dtseries.nii", p.stderr)
+        self.assertFalse(os.path.exists(out + "2"))
+        img = self.nib.load(os.path.join(self.dt_deriv, "sub-02", "func",
+                                         "sub-02_task-rest_space-fsLR_den-91k_desc-preproc_bold.dtseries.nii"))
+        data = np.asarray(img.get_fdata())
+        means = np.stack([data[:, self.keys == k].mean(axis=1) for k in (4, 9)], axis=1)
+        names, got = self.connectivity(out, "02", "sub-02_task-rest_space-fsLR_atlas-atlas_den-91k_desc-unfiltered_"
+                                                  "connectivity.tsv")
+        self.assertEqual(names, ["frontal", "occipital"])  # the dlabel table's names
+        np.testing.assert_allclose(got, np.corrcoef(means, rowvar=False), atol=1e-10)
+
+
 class PythonBinding(unittest.TestCase):
     """critplex.run_dataset (plugins/python) over cpx_dataset_run."""
 
