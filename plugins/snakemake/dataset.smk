@@ -103,7 +103,7 @@ def participant_mem_mb(participant):
     return max(200, int(2 * (6.3 + 1.13e-4 * regions * frames + 1.5e-5 * regions * regions)))
 
 
-localrules: all, analysis_config
+localrules: all, analysis_config, report
 
 
 rule all:
