@@ -235,11 +235,13 @@ Json run_group_level(const std::string& derivatives_dir, const std::string& out_
         records.push_back(output::read_subject_record(run.path, wanted));
     for (auto& rec : records)
       if (const auto row = participants.rows.find(rec.id); row != participants.rows.end()) rec.group = row->second.at("group");
+    std::string ungrouped;
     for (const auto& rec : records)
-      if (rec.group.empty() || rec.group == "n/a")
-        fail(ErrorKind::data, "'" + participants.path + "': participant " + rec.id + " has no group");
+      if ((rec.group.empty() || rec.group == "n/a") && ungrouped.empty()) ungrouped = rec.id;
     // Too few runs for a comparison (e.g. one participant so far) still gives the tables.
     try {
+      if (!ungrouped.empty())
+        fail(ErrorKind::data, "participant " + ungrouped + " has no group in '" + participants.path + "'");
       const pipeline::Comparison c = pipeline::compare(records, compare_options);
       files.emplace_back("group_tests.tsv", output::group_tests_tsv(c));
       files.emplace_back("group_comparison.json", output::comparison_json(c).dump(1) + "\n");
@@ -259,6 +261,12 @@ Json run_group_level(const std::string& derivatives_dir, const std::string& out_
     io::write_file_atomically(group_dir + "/" + name, text);
     written.push_back("group/" + name);
   }
+  // A comparison left by an earlier group run would no longer match the tables.
+  if (!summary["compared"].get<bool>())
+    for (const char* stale : {"group_comparison.json", "group_tests.tsv", "report.html"}) {
+      std::error_code ec;
+      fs::remove(group_dir + "/" + stale, ec);
+    }
   summary["files"] = written;
   return summary;
 }

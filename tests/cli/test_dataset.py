@@ -262,6 +262,9 @@ class Inputs(unittest.TestCase):
         with open(os.path.join(self.out, "group", "group_comparison.json")) as f:
             groups = json.load(f)["groups"]
         self.assertEqual(sorted(len(g["subjects"]) for g in groups), [2, 2])
+        # A later group run without a comparison removes the earlier one (it would not match).
+        run("dataset", self.deriv, self.out, "group")
+        self.assertFalse(os.path.exists(os.path.join(self.out, "group", "group_comparison.json")))
 
     def test_dry_run_writes_nothing(self):
         p = self.dataset("--dry-run")
