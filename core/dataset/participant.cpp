@@ -258,6 +258,9 @@ Json run_one(const PlannedRun& p, const std::string& derivatives_dir, const std:
 Json run_participant_level(const std::string& derivatives_dir, const std::string& out_dir, const ParticipantOptions& o,
                            const pipeline::ProgressFn& progress) {
   if (out_dir.empty()) fail(ErrorKind::argument, "dataset: the output folder is empty");
+  std::error_code ec;
+  if (fs::exists(out_dir, ec) && fs::equivalent(out_dir, derivatives_dir, ec))
+    fail(ErrorKind::argument, "dataset: the output folder '" + out_dir + "' is the derivatives folder; give another");
   Json warnings = Json::array();
   const std::vector<PlannedRun> planned = plan_runs(derivatives_dir, o, warnings);
   Json summary = {{"level", "participant"}, {"dry_run", o.dry_run}, {"runs", Json::array()}, {"warnings", warnings}};

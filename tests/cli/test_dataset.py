@@ -293,6 +293,11 @@ class Inputs(unittest.TestCase):
             self.assertIn(needle, p.stderr)
         self.assertFalse(os.path.exists(self.out), "bad input must leave no output")
 
+    def test_output_into_the_derivatives_folder_refused(self):
+        p = run("dataset", self.deriv, self.deriv, "participant", "--atlas", self.atlas, ok=False)
+        self.assertNotEqual(p.returncode, 0)
+        self.assertIn("is the derivatives folder", p.stderr)
+
     def test_missing_sidecar(self):
         os.remove(self.stem + "_space-sleeplab_desc-preproc_bold.json")
         self.refused("sub-rested01_ses-02_task-rest_space-sleeplab_desc-preproc_bold.json", "missing")
