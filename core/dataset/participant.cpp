@@ -104,8 +104,8 @@ void add_participant_fields(Json& config, const Participants& table, const std::
       const std::string& cell = cells.at(column);
       if (cell == "n/a") continue;
       char* end = nullptr;
-      std::strtod(cell.c_str(), &end);
-      if (cell.empty() || *end != '\0') numeric = false;
+      const double value = std::strtod(cell.c_str(), &end);
+      if (cell.empty() || *end != '\0' || !std::isfinite(value)) numeric = false;
     }
     if (!numeric) continue;
     const std::string& cell = row->second.at(column);
