@@ -3,6 +3,7 @@
 #include <algorithm>
 #include <cmath>
 #include <filesystem>
+#include <map>
 #include <sstream>
 
 #include "base/error.hpp"
@@ -28,6 +29,47 @@ std::string sidecar_of(const fs::path& func, const BidsName& image) {
     if (fs::exists(other)) return other;
   }
   return bids;
+}
+
+// JSON files of a folder with BIDS names, listed once per folder (the dataset's root may
+// hold thousands of entries and every run looks there).
+class SidecarIndex {
+ public:
+  const std::vector<std::pair<BidsName, std::string>>& in(const fs::path& folder) {
+    auto [it, added] = cache_.try_emplace(folder.string());
+    std::error_code ec;
+    if (added && fs::is_directory(folder, ec))
+      for (const auto& e : fs::directory_iterator(folder)) {
+        const auto name = parse_bids_name(e.path().filename().string());
+        if (name && e.is_regular_file() && name->extension == ".json") it->second.emplace_back(*name, e.path().string());
+      }
+    return it->second;
+  }
+
+ private:
+  std::map<std::string, std::vector<std::pair<BidsName, std::string>>> cache_;
+};
+
+// BIDS "The Inheritance Principle": a sidecar applies to a data file when it sits in the
+// file's folder or above it, has the same suffix and its entities are a subset of the
+// file's. Returned top level first and, within a level, fewer entities first, so that
+// later files override earlier ones; the sidecar beside the file (`own`) is left out.
+std::vector<std::string> inherited_sidecars(SidecarIndex& index, const std::vector<fs::path>& levels,
+                                            const BidsName& image, const std::string& own) {
+  std::vector<std::string> found;
+  for (const auto& level : levels) {
+    std::vector<std::pair<std::size_t, std::string>> here;
+    for (const auto& [name, path] : index.in(level)) {
+      if (name.suffix != image.suffix || path == own) continue;
+      const bool subset = std::all_of(name.entities.begin(), name.entities.end(), [&](const auto& e) {
+        return image.get(e.first) == e.second;
+      });
+      if (subset) here.emplace_back(name.entities.size(), path);
+    }
+    std::sort(here.begin(), here.end());
+    for (auto& h : here) found.push_back(std::move(h.second));
+  }
+  return found;
 }
 
 std::string without_prefix(const std::string& label, const std::string& prefix) {
@@ -74,6 +116,7 @@ std::vector<Run> find_runs(const std::string& derivatives_dir, RunFilter filter)
   for (const auto& label : filter.sessions)
     if (!is_bids_label(label)) fail(ErrorKind::argument, "session label '" + label + "' must be letters and digits only");
   std::vector<Run> runs;
+  SidecarIndex sidecars;
   for (const auto& top : fs::directory_iterator(derivatives_dir)) {
     const std::string sub = top.path().filename().string();
     if (!top.is_directory() || sub.rfind("sub-", 0) != 0 || !wanted(filter.participants, sub.substr(4))) continue;
@@ -97,6 +140,10 @@ std::vector<Run> find_runs(const std::string& derivatives_dir, RunFilter filter)
         run.name = *name;
         run.image = file.path().string();
         run.sidecar = sidecar_of(func, *name);
+        std::vector<fs::path> levels{fs::path(derivatives_dir), top.path()};
+        if (func.parent_path() != top.path()) levels.push_back(func.parent_path());  // ses-<l>
+        levels.push_back(func);
+        run.inherited = inherited_sidecars(sidecars, levels, *name, run.sidecar);
         run.confounds = (func / confounds_name(*name)).string();
         run.folder = fs::relative(func, derivatives_dir).generic_string();
         runs.push_back(std::move(run));
@@ -110,22 +157,33 @@ std::vector<Run> find_runs(const std::string& derivatives_dir, RunFilter filter)
   return runs;
 }
 
-double sidecar_repetition_time(const Run& run) {
-  std::error_code ec;
-  if (!fs::exists(run.sidecar, ec))
-    fail(ErrorKind::io, "'" + run.image + "': its JSON sidecar '" + run.sidecar + "' is missing (it holds RepetitionTime)");
+RepetitionTime sidecar_repetition_time(const Run& run) {
+  std::vector<std::string> files = run.inherited;
+  if (fs::exists(run.sidecar)) files.push_back(run.sidecar);
+  if (files.empty())
+    fail(ErrorKind::io, "'" + run.image + "': its JSON sidecar '" + run.sidecar +
+                            "' is missing (it holds RepetitionTime), and no sidecar higher in the dataset applies");
+  RepetitionTime tr;
+  const Json* value = nullptr;
   Json doc;
-  try {
-    doc = Json::parse(io::read_file(run.sidecar));
-  } catch (const Json::parse_error& e) {
-    fail(ErrorKind::parse, "'" + run.sidecar + "': not valid JSON (" + e.what() + ")");
+  for (const auto& file : files) {  // the last file naming RepetitionTime wins
+    Json d;
+    try {
+      d = Json::parse(io::read_file(file));
+    } catch (const Json::parse_error& e) {
+      fail(ErrorKind::parse, "'" + file + "': not valid JSON (" + e.what() + ")");
+    }
+    if (d.is_object() && d.contains("RepetitionTime")) {
+      doc = std::move(d);
+      value = &doc["RepetitionTime"];
+      tr.source = file;
+    }
   }
-  if (!doc.is_object() || !doc.contains("RepetitionTime"))
-    fail(ErrorKind::data, "'" + run.sidecar + "': no \"RepetitionTime\"");
-  const Json& tr = doc["RepetitionTime"];
-  if (!tr.is_number() || !std::isfinite(tr.get<double>()) || tr.get<double>() <= 0)
-    fail(ErrorKind::data, "'" + run.sidecar + "': \"RepetitionTime\" must be a positive number of seconds, got " + tr.dump());
-  return tr.get<double>();
+  if (value == nullptr) fail(ErrorKind::data, "'" + files.back() + "': no \"RepetitionTime\" (nor in a sidecar it inherits from)");
+  if (!value->is_number() || !std::isfinite(value->get<double>()) || value->get<double>() <= 0)
+    fail(ErrorKind::data, "'" + tr.source + "': \"RepetitionTime\" must be a positive number of seconds, got " + value->dump());
+  tr.seconds = value->get<double>();
+  return tr;
 }
 
 Participants read_participants(const std::string& derivatives_dir) {

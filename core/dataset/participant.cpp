@@ -118,6 +118,7 @@ struct PlannedRun {
   Run run;
   pipeline::SubjectConfig config;
   double repetition_time = 0.0;
+  std::string repetition_time_source;  // the sidecar it came from
   Entities base;  // output entities without desc
 };
 
@@ -140,13 +141,15 @@ std::vector<PlannedRun> plan_runs(const std::string& derivatives_dir, const Part
   for (const Run& run : runs) {
     PlannedRun p;
     p.run = run;
-    p.repetition_time = sidecar_repetition_time(run);
+    const RepetitionTime tr = sidecar_repetition_time(run);
+    p.repetition_time = tr.seconds;
+    p.repetition_time_source = tr.source;
     // The sidecar wins over the header (BIDS: sidecar values take precedence); a
     // disagreement usually means one of them was edited, so say so.
     const double header = io::image_header_sampling_interval(run.image);
     if (std::isfinite(header) && std::fabs(header - p.repetition_time) > 1e-6 * p.repetition_time)
       warnings.push_back("'" + run.image + "': the header says a repetition time of " + io::format_double(header) +
-                         " s, the sidecar '" + run.sidecar + "' says " + io::format_double(p.repetition_time) +
+                         " s, the sidecar '" + tr.source + "' says " + io::format_double(p.repetition_time) +
                          " s; using the sidecar's");
     if (confounds && !fs::exists(run.confounds))
       fail(ErrorKind::io, "'" + run.image + "': its confounds table '" + run.confounds +
@@ -268,7 +271,7 @@ Json run_participant_level(const std::string& derivatives_dir, const std::string
   if (o.dry_run) {
     for (const auto& p : planned)
       summary["runs"].push_back({{"image", p.run.image}, {"subject", p.run.subject()}, {"session", p.run.session()},
-                                 {"repetition_time", p.repetition_time}, {"sidecar", p.run.sidecar},
+                                 {"repetition_time", p.repetition_time}, {"sidecar", p.repetition_time_source},
                                  {"confounds", p.config.connect.clean.regressor_table}, {"status", "planned"},
                                  {"outputs", planned_outputs(p)}});
     summary["done"] = 0;

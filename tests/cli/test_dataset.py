@@ -302,6 +302,24 @@ class Inputs(unittest.TestCase):
         os.remove(self.stem + "_space-sleeplab_desc-preproc_bold.json")
         self.refused("sub-rested01_ses-02_task-rest_space-sleeplab_desc-preproc_bold.json", "missing")
 
+    def test_inherited_sidecars(self):
+        # BIDS "The Inheritance Principle": sidecars higher in the tree apply when their
+        # entities are a subset of the file's and the suffix matches; a lower level (or the
+        # file's own sidecar) overrides a higher one.
+        with open(os.path.join(self.deriv, "task-rest_bold.json"), "w") as f:
+            json.dump({"RepetitionTime": 2.0}, f)
+        os.remove(self.stem + "_space-sleeplab_desc-preproc_bold.json")
+        p = self.dataset("--participant-label", "rested01", "--dry-run")
+        lines = [line for line in p.stdout.splitlines() if "TR " in line]
+        self.assertIn("TR 2 s from " + os.path.join(self.deriv, "task-rest_bold.json"), lines[1])  # ses-02: inherited
+        self.assertIn("TR 0.8 s from " + os.path.join(self.deriv, "sub-rested01", "ses-01", "func"), lines[0])  # its own
+        ses = os.path.join(self.deriv, "sub-rested01", "ses-02", "sub-rested01_ses-02_task-rest_bold.json")
+        with open(ses, "w") as f:
+            json.dump({"RepetitionTime": 1.5}, f)
+        p = self.dataset("--participant-label", "rested01", "--dry-run")
+        self.assertIn("TR 1.5 s from " + ses, p.stdout)
+        self.assertIn("1.5 s; using the sidecar's", p.stderr)  # the header says 0.8
+
     def test_sidecar_without_repetition_time(self):
         with open(self.stem + "_space-sleeplab_desc-preproc_bold.json", "w") as f:
             json.dump({"TaskName": "rest"}, f)
