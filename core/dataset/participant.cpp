@@ -3,6 +3,7 @@
 #include <chrono>
 #include <cmath>
 #include <filesystem>
+#include <optional>
 #include <set>
 
 #include "base/error.hpp"
@@ -114,6 +115,10 @@ void add_participant_fields(Json& config, const Participants& table, const std::
   if (!covariates.empty()) config["covariates"] = covariates;
 }
 
+std::string grid_text(const std::array<std::int64_t, 3>& g) {
+  return std::to_string(g[0]) + "x" + std::to_string(g[1]) + "x" + std::to_string(g[2]);
+}
+
 struct PlannedRun {
   Run run;
   pipeline::SubjectConfig config;
@@ -137,6 +142,8 @@ std::vector<PlannedRun> plan_runs(const std::string& derivatives_dir, const Part
                                                   : (o.atlas_label.empty() ? atlas_label_of(o.atlas) : o.atlas_label);
   for (const auto& path : {o.atlas, o.atlas_labels})
     if (!path.empty() && !fs::exists(path)) fail(ErrorKind::io, "dataset: '" + path + "' does not exist");
+  std::optional<io::ImageHeaderSummary> atlas;
+  if (!o.atlas.empty()) atlas = io::read_image_header_summary(o.atlas);
   std::vector<PlannedRun> planned;
   for (const Run& run : runs) {
     PlannedRun p;
@@ -146,7 +153,12 @@ std::vector<PlannedRun> plan_runs(const std::string& derivatives_dir, const Part
     p.repetition_time_source = tr.source;
     // The sidecar wins over the header (BIDS: sidecar values take precedence); a
     // disagreement usually means one of them was edited, so say so.
-    const double header = io::image_header_sampling_interval(run.image);
+    const io::ImageHeaderSummary image = io::read_image_header_summary(run.image);
+    // A volume atlas on another grid fails every run: say so before any work.
+    if (atlas && !atlas->cifti && !image.cifti && atlas->grid != image.grid)
+      fail(ErrorKind::data, "grids differ: '" + run.image + "' is " + grid_text(image.grid) + " voxels but the atlas '" +
+                                o.atlas + "' is " + grid_text(atlas->grid));
+    const double header = image.sampling_interval;
     if (std::isfinite(header) && std::fabs(header - p.repetition_time) > 1e-6 * p.repetition_time)
       warnings.push_back("'" + run.image + "': the header says a repetition time of " + io::format_double(header) +
                          " s, the sidecar '" + tr.source + "' says " + io::format_double(p.repetition_time) +

@@ -330,16 +330,27 @@ class Inputs(unittest.TestCase):
         self.refused("sub-rested01_ses-02_task-rest_desc-confounds_timeseries.tsv", "missing")
 
     def test_atlas_on_another_grid(self):
-        # The atlas of a study with other regions: another grid. The runs fail with a
-        # message naming both files; none of their outputs is written.
+        # The atlas of a study with other regions: another grid, refused before any work
+        # with a message naming both files.
         other = os.path.join(self.root, "O")
         run("simulate", "--layout", "bids", "--out", other, "--subjects", "1", "--regions", "30", "--frames", "20")
         self.atlas = os.path.join(other, "derivatives", "critplex-simulate", "space-sleeplab_desc-demoatlas_dseg.nii.gz")
+        self.refused("grids differ", self.atlas, "sub-deprived01_ses-01_task-rest_space-sleeplab_desc-preproc_bold.nii.gz")
+
+    def test_atlas_with_another_affine_fails_the_runs(self):
+        # Same voxel counts, other voxel size: found when each run is read; the runs fail
+        # by name, the others' files are not written, the exit status is 1.
+        import nibabel
+        img = nibabel.load(self.atlas)
+        moved = nibabel.Nifti1Image(np.asarray(img.dataobj), img.affine * np.diag([2, 2, 2, 1]), img.header)
+        moved.header.set_zooms(tuple(2 * z for z in img.header.get_zooms()[:3]))
+        self.atlas = os.path.join(self.root, "moved_dseg.nii.gz")
+        moved.to_filename(self.atlas)
         p = self.dataset("--participant-label", "rested01", ok=False)
         self.assertEqual(p.returncode, 1)
         self.assertIn("0 done", p.stdout)
-        self.assertIn("grid", p.stderr)
-        self.assertIn(self.atlas, p.stderr)
+        self.assertIn("grids differ", p.stderr)
+        self.assertIn("moved_dseg.nii.gz", p.stderr)
         self.assertFalse(os.path.exists(os.path.join(self.out, "sub-rested01")))
 
 
