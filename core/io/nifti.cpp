@@ -208,4 +208,24 @@ series::Series read_image_series(const std::string& image_path, const std::strin
   return s;
 }
 
+ImageHeaderSummary read_image_header_summary(const std::string& image_path) {
+  MemoryBudget budget(default_image_memory_budget);
+  ImageFile image(image_path, budget);
+  ImageHeaderSummary summary;
+  if (image.cifti_xml()) {
+    summary.cifti = true;
+    const CiftiHeader header = read_cifti_header(image, budget);
+    for (const auto& axis : header.axes)
+      if (axis.kind == CiftiAxis::Kind::series && axis.unit == "SECOND" && std::isfinite(axis.step) && axis.step > 0)
+        summary.sampling_interval = axis.step;
+    return summary;
+  }
+  const ImageHeader& h = image.header();
+  summary.grid = {h.dim[1], h.dim[2], h.dim[3]};
+  const double unit = time_unit_seconds(h.xyzt_units);
+  if (h.dim[0] >= 4 && std::isfinite(unit) && std::isfinite(h.pixdim[4]) && h.pixdim[4] > 0)
+    summary.sampling_interval = h.pixdim[4] * unit;
+  return summary;
+}
+
 }  // namespace critplex::io

@@ -6,6 +6,7 @@
 // image_file.hpp for the size rules and the memory budget).
 #pragma once
 
+#include <array>
 #include <cstdint>
 #include <limits>
 #include <map>
@@ -33,6 +34,16 @@ struct ImageOptions {
 // to 2^53, labels listed in the table with no voxels, labels missing from the table.
 series::Series read_image_series(const std::string& image_path, const std::string& labels_path,
                                  const ImageOptions& options);
+
+// What an image's header says, read without the data (and, for CIFTI, with the XML):
+// sampling_interval in seconds (NIfTI pixdim[4] with its time unit, CIFTI SeriesStep in
+// SECOND; NaN when the header states none) and, for NIfTI volumes, the spatial grid.
+struct ImageHeaderSummary {
+  bool cifti = false;
+  std::array<std::int64_t, 3> grid{};  // NIfTI: dim[1..3]; CIFTI: zeros
+  double sampling_interval = std::numeric_limits<double>::quiet_NaN();
+};
+ImageHeaderSummary read_image_header_summary(const std::string& image_path);
 
 // The image reading options (label_names, sampling_interval, label_map, memory_budget_mb)
 // and their table.

@@ -4,6 +4,8 @@
 #include "cohort/designs.hpp"
 #include "cohort/options.hpp"
 #include "connectivity/connect.hpp"
+#include "dataset/group.hpp"
+#include "dataset/participant.hpp"
 #include "curvature/on_grid.hpp"
 #include "homology/persistence.hpp"
 #include "io/files.hpp"
@@ -44,6 +46,8 @@ const std::vector<const OptionSection*>& all_option_sections() {
       &cohort::bootstrap_option_section(),
       &cohort::cluster_option_section(),
       &report_option_section(),
+      &dataset::participant_option_section(),
+      &dataset::group_option_section(),
       &simulate::surrogate_option_section(),
       &simulate::rewire_option_section(),
   };

@@ -88,7 +88,11 @@ SubjectConfig parse_subject_config(const Json& config, const std::string& base_d
   const std::string confounds = resolve(r.text("confounds"), base);
   if (c.timeseries.empty() == c.image.empty())
     fail(ErrorKind::argument, "subject config: give either \"timeseries\" or \"image\" (with \"labels\")");
-  if (!c.image.empty() && c.labels.empty())
+  // A CIFTI parcellated series holds its regions; every other image needs a label image.
+  const std::string parcellated = ".ptseries.nii";
+  const bool has_regions = c.image.size() > parcellated.size() &&
+                           c.image.compare(c.image.size() - parcellated.size(), parcellated.size(), parcellated) == 0;
+  if (!c.image.empty() && c.labels.empty() && !has_regions)
     fail(ErrorKind::argument, "subject config: \"image\" needs \"labels\" (a label image on the same grid)");
   auto object = [&](const char* key) {
     const Json* v = r.raw(key);

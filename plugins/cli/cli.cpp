@@ -90,7 +90,9 @@ Args parse_args(const Command& command, int argc, char** argv) {
         args.values[name] = inline_value;
       } else {
         if (i + 1 >= argc) throw Failure("--" + name + " needs a value (" + flag->value_name + ")", 2);
-        args.values[name] = argv[++i];
+        std::string value = argv[++i];
+        while (flag->many && i + 1 < argc && std::string(argv[i + 1]).rfind("--", 0) != 0) value += "\t" + std::string(argv[++i]);
+        args.values[name] = value;
       }
       continue;
     }

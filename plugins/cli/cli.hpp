@@ -24,6 +24,7 @@ struct Flag {
   std::string name;         // without the leading "--"
   std::string value_name;   // "" for a switch without value
   std::string help;
+  bool many = false;        // takes every following argument up to the next flag (joined by tabs)
 };
 
 struct Command {

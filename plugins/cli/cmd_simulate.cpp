@@ -43,6 +43,12 @@ int run_simulate(const Args& args) {
                 s["atlas"].get<std::string>().c_str(), s["atlas_labels"].get<std::string>().c_str());
   std::printf("next: critplex cohort %s --config %s --out RESULTS\n", s["manifest"].get<std::string>().c_str(),
               s["config"].get<std::string>().c_str());
+  if (s["layout"] == "bids")
+    std::printf("  or: critplex dataset %s RESULTS participant --atlas %s --atlas-labels %s --config %s\n"
+                "      critplex dataset %s RESULTS group\n",
+                s["derivatives"].get<std::string>().c_str(), s["atlas"].get<std::string>().c_str(),
+                s["atlas_labels"].get<std::string>().c_str(), s["config"].get<std::string>().c_str(),
+                s["derivatives"].get<std::string>().c_str());
   return 0;
 }
 

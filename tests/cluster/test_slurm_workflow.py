@@ -4,7 +4,8 @@
 7's own SLURM executor, on a small invented BIDS-layout study (`critplex simulate --layout
 bids`, images + atlas + confounds). Checks that the subject jobs ran as SLURM jobs, at least
 two at once, and that every result equals `critplex cohort` + `critplex compare` run
-locally on the same manifest and config.
+locally on the same manifest and config; and the same for the dataset workflow
+(plugins/snakemake/dataset.smk) against `critplex dataset` run locally.
 
     test_slurm_workflow.py WORK_DIR      (critplex on PATH; SLURM_CONF and USER set)
 """
@@ -98,6 +99,57 @@ class SlurmWorkflow(unittest.TestCase):
                 self.assertEqual(read(os.path.join(flow, name)), read(os.path.join(local, name)), name)
         self.assertEqual(read(os.path.join(flow, "group_tests.tsv")), read(os.path.join(local, "group_tests.tsv")))
         self.assertTrue(os.path.isfile(os.path.join(flow, "report.html")))
+
+    def test_dataset_workflow_slurm_equals_local(self):
+        """plugins/snakemake/dataset.smk: one SLURM job per participant running `critplex
+        dataset ... participant`, then the group level; every table equals `critplex dataset
+        ... participant` + `group` run locally."""
+        work = os.path.join(WORK, "dataset")
+        os.makedirs(work, exist_ok=True)
+        data = os.path.join(work, "D")
+        subprocess.run(["critplex", "simulate", "--layout", "bids", "--out", data, "--subjects", "2", "--regions", "24",
+                        "--frames", "200", "--seed", "22"], check=True, capture_output=True)
+        deriv = os.path.join(data, "derivatives", "critplex-simulate")
+        atlas = os.path.join(deriv, "space-sleeplab_desc-demoatlas_dseg.nii.gz")
+        labels = os.path.join(deriv, "space-sleeplab_desc-demoatlas_dseg.tsv")
+        with open(os.path.join(data, "cohort_config.json")) as f:
+            cfg = json.load(f)
+        cfg["sweep"] = {"max_density": 0.3, "grid": 0.02, "curvature": {}}
+        cfg["null"] = {"model": "rewire", "count": 3, "seed": 5}
+        analysis = os.path.join(work, "analysis.json")
+        with open(analysis, "w") as f:
+            json.dump(cfg, f)
+        flow = os.path.join(work, "slurm-results")
+        workflow = os.path.join(os.path.dirname(SNAKEFILE), "dataset.smk")
+        watcher = QueueWatcher()
+        watcher.start()
+        t0 = time.monotonic()
+        run = subprocess.run(["snakemake", "-s", workflow, "--slurm", "--jobs", "4", "--max-status-checks-per-second", "1",
+                              "--directory", work, "--config", f"derivatives={deriv}", f"atlas={atlas}",
+                              f"atlas_labels={labels}", f"analysis={analysis}", f"out={flow}",
+                              f"critplex={shutil.which('critplex')}"], capture_output=True, text=True)
+        slurm_seconds = time.monotonic() - t0
+        watcher.stop.set()
+        watcher.join()
+        self.assertEqual(run.returncode, 0, run.stderr[-4000:])
+        t0 = time.monotonic()
+        local = os.path.join(work, "local-results")
+        subprocess.run(["critplex", "dataset", deriv, local, "participant", "--atlas", atlas, "--atlas-labels", labels,
+                        "--config", analysis], check=True, capture_output=True)
+        subprocess.run(["critplex", "dataset", deriv, local, "group"], check=True, capture_output=True)
+        local_seconds = time.monotonic() - t0
+        print(f"dataset workflow on SLURM {slurm_seconds:.1f} s, local participant + group {local_seconds:.1f} s; "
+              f"most jobs running at once: {len(watcher.most)}", file=sys.stderr)
+        # 4 participant jobs and the group job ran through SLURM, at least two at once.
+        slurm_logs = glob.glob(os.path.join(work, ".snakemake", "slurm_logs", "rule_*", "*.log"))
+        self.assertEqual(len(slurm_logs), 5, slurm_logs)
+        self.assertGreaterEqual(len(watcher.most), 2, f"jobs seen running: {sorted(watcher.seen)}")
+        tables = sorted(os.path.relpath(os.path.join(d, f), local) for d, _, files in os.walk(local)
+                        for f in files if f.endswith(".tsv"))
+        self.assertEqual(len(tables), 4 * 3 + 3)
+        for name in tables:
+            self.assertEqual(read(os.path.join(flow, name)), read(os.path.join(local, name)), name)
+        self.assertTrue(os.path.isfile(os.path.join(flow, "group", "report.html")))
 
 
 if __name__ == "__main__":

@@ -509,6 +509,27 @@ CPX_API cpx_status cpx_cohort_report(const char* dir, const char* options_json, 
  * Threads: any thread; two calls must not share dir. Since 0.1. */
 CPX_API cpx_status cpx_simulate_study(const char* options_json, const char* dir, char** summary_json);
 
+/* Dataset mode (since 0.2): a preprocessed BIDS derivatives folder in, a BIDS derivatives
+ * dataset out. level "participant": every sub-<l>/[ses-<l>/]func/..._desc-preproc_bold run
+ * (.nii, .nii.gz, .dtseries.nii, .ptseries.nii) passing the filter goes through the subject
+ * pipeline with RepetitionTime from its JSON sidecar (the sidecar wins over the header; a
+ * disagreement is listed in "warnings") and, when the config selects confound columns,
+ * its *_desc-confounds_timeseries.tsv. Writes out_dir/dataset_description.json and per run
+ * out_dir/sub-<l>/[ses-<l>/]func/<run entities>_atlas-<a>_desc-<band>_{connectivity,curves,
+ * transitions}.tsv each with a .json sidecar, and <run entities>_atlas-<a>_topology.json.
+ * Options: {"atlas", "atlas_labels", "atlas_label", "participant_label": [...], "session":
+ * [...], "task", "space", "config": {shared subject config}, "dry_run": false, "force": false}.
+ * Missing sidecars or confounds tables fail the call before anything is written; a run that
+ * fails later is listed with its reason and the others go on. level "group": reads the
+ * finished runs in out_dir and writes out_dir/group/curves_long.tsv and summaries.tsv (with
+ * sidecars), plus group_comparison.json and group_tests.tsv when participants.tsv has a
+ * group column (one run per participant: with several sessions, "compare_session" picks
+ * one); options {"compare": {compare options}, "compare_session": ""}. summary_json (free
+ * with cpx_string_free): {"level", "runs", "done", "skipped", "failed", "warnings", ...};
+ * NULL on failure. progress may be NULL. Independent calls on different folders: safe in parallel. */
+CPX_API cpx_status cpx_dataset_run(const char* derivatives_dir, const char* out_dir, const char* level,
+                                   const char* options_json, cpx_progress_fn progress, void* user, char** summary_json);
+
 /* --- stage sections below are added by the stages that own them ----------------------- */
 
 /* ------------------------------------------------------------------------------------ */

@@ -18,7 +18,7 @@ from ._tables import Table
 from ._handles import (Matrix, Series, Sweep, connect, connect_bands, has_pandas, read_image, read_matrix,
                        read_series, sweep)
 from ._study import (CohortRun, Comparison, Report, Study, SubjectBand, SubjectResult, compare, design_test,
-                     report, run_cohort, run_subject, simulate_study)
+                     report, run_cohort, run_dataset, run_subject, simulate_study)
 
 __version__ = "0.2.0"
 
@@ -26,7 +26,7 @@ __all__ = [
     "__version__", "ABI_VERSION", "CritplexError", "LibraryNotFound", "AbiMismatch", "load_library", "library",
     "library_path", "version", "abi_version", "Table", "Series", "Matrix", "Sweep", "read_series", "read_image",
     "read_matrix", "connect", "connect_bands", "sweep", "has_pandas", "SubjectBand", "SubjectResult", "CohortRun",
-    "Comparison", "Report", "Study", "run_subject", "run_cohort", "compare", "report", "simulate_study",
+    "Comparison", "Report", "Study", "run_subject", "run_cohort", "run_dataset", "compare", "report", "simulate_study",
     "design_test",
 ]
 

@@ -111,6 +111,7 @@ SIGNATURES = {
     "cpx_stats_design_test": ([_c.c_char_p, _c.c_char_p, _OUT], _c.c_int),
     "cpx_cohort_report": ([_c.c_char_p, _c.c_char_p, _OUT], _c.c_int),
     "cpx_simulate_study": ([_c.c_char_p, _c.c_char_p, _OUT], _c.c_int),
+    "cpx_dataset_run": ([_c.c_char_p, _c.c_char_p, _c.c_char_p, _c.c_char_p, PROGRESS_FN, _P, _OUT], _c.c_int),
 }
 
 _lock = threading.Lock()

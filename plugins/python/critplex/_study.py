@@ -360,3 +360,36 @@ def simulate_study(out_dir: Union[str, os.PathLike], options: Optional[Mapping[s
                  config_path=s.get("config", os.path.join(os.fspath(out_dir), "cohort_config.json")),
                  subjects=int(s.get("subjects", 0)), regions=int(s.get("regions", 0)), frames=int(s.get("frames", 0)),
                  summary=s)
+
+
+def run_dataset(derivatives_dir: Union[str, os.PathLike], out_dir: Union[str, os.PathLike], level: str = "participant",
+                options: Optional[Mapping[str, Any]] = None, progress: Progress = None, **more: Any) -> Dict[str, Any]:
+    """Dataset mode on a preprocessed BIDS derivatives folder (``critplex dataset``).
+
+    Parameters
+    ----------
+    derivatives_dir : str
+        The derivatives folder (``sub-<label>/[ses-<label>/]func/*_desc-preproc_bold.*``).
+    out_dir : str
+        The output derivatives dataset.
+    level : str
+        ``"participant"`` (run every selected run) or ``"group"`` (tidy tables and the group
+        comparison of the finished runs).
+    options : dict, optional
+        participant: ``atlas``, ``atlas_labels``, ``atlas_label``, ``participant_label``,
+        ``session``, ``task``, ``space``, ``config`` (the shared subject config as a dict),
+        ``dry_run``, ``force``; group: ``compare`` (compare options).
+    progress : callable, optional
+        ``progress(fraction)``; returning True cancels.
+    **more
+        Further options as keywords.
+
+    Returns
+    -------
+    dict
+        The summary: ``runs`` (status, outputs, message per run), ``warnings``, counts.
+    """
+    p = ctypes.c_void_p()
+    check(library().cpx_dataset_run(_path(derivatives_dir), _path(out_dir), str(level).encode(),
+                                    options_json(options, **more), progress_callback(progress), None, ctypes.byref(p)))
+    return json.loads(take_string(p))
