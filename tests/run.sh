@@ -35,5 +35,5 @@ capi_targets="$(for f in tests/capi/*.c; do printf 'capi_%s ' "$(basename "$f" .
 cmake --build build-tsan -j"$jobs" --target $capi_targets
 TSAN_OPTIONS=halt_on_error=1:second_deadlock_stack=1 ctest --test-dir build-tsan --output-on-failure -j"$jobs" -L capi
 
-echo "== fuzzing: each harness of tests/fuzz for 20 s (6 harnesses, 2 minutes plus the build) =="
-bash tests/fuzz/run.sh 20
+echo "== fuzzing: each harness of tests/fuzz for 10 s (6 harnesses, 1 minute plus the build) =="
+bash tests/fuzz/run.sh 10

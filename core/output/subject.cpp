@@ -52,6 +52,7 @@ Json resolved_config_json(const pipeline::SubjectConfig& c) {
   j["null"] = Json{{"model", c.null.model}, {"count", c.null.count}, {"seed", c.null.seed},
                    {"iaaft_iterations", c.null.iaaft_iterations}, {"rewire_swaps_per_edge", c.null.rewire_swaps_per_edge},
                    {"min_draws_for_z", c.null.min_draws_for_z}};
+  if (c.null.max_density) j["null"]["max_density"] = *c.null.max_density;
   return j;
 }
 

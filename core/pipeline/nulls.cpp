@@ -36,7 +36,11 @@ const OptionSection& null_option_section() {
         .meaning = "degree-preserving swaps per edge (Maslov & Sneppen 2002)"},
        {.key = "min_draws_for_z", .type = "integer", .default_value = 100, .min = 2, .max = 10000,
         .meaning = "null draws with a transition needed before a z-score is reported; with fewer, only the "
-                   "empirical percentile rank (resolution 1/(count+1)) and a warning"}}};
+                   "empirical percentile rank (resolution 1/(count+1)) and a warning"},
+       {.key = "max_density", .type = "number", .default_note = "the clique engine's range", .min = 0, .max = 1,
+        .min_open = true,
+        .meaning = "the null sweeps' own range (chi only); null graphs are near random, whose chi is costly at high "
+                   "density, so a range just past the transitions of interest cuts a null's cost most"}}};
   return section;
 }
 
@@ -49,6 +53,7 @@ NullSpec parse_null_spec(const Json& section, const std::string& where) {
   s.iaaft_iterations = static_cast<int>(r.integer("iaaft_iterations"));
   s.rewire_swaps_per_edge = r.number("rewire_swaps_per_edge");
   s.min_draws_for_z = static_cast<int>(r.integer("min_draws_for_z"));
+  s.max_density = r.optional_number("max_density");
   r.finish();
   return s;
 }
@@ -149,13 +154,15 @@ std::string NullResult::warning() const {
   return buf;
 }
 
-SweepOptions null_sweep_options(const SweepOptions& options) {
+SweepOptions null_sweep_options(const SweepOptions& options, std::optional<double> max_density) {
   SweepOptions o;
   o.weights = options.weights;
   o.grid = options.grid;
   cliques::Options c;
   c.chi_only = true;
   if (options.cliques) c.threads = options.cliques->threads;
+  if (!max_density && options.cliques) max_density = options.cliques->max_density;
+  if (max_density) c.max_density = std::min(*max_density, options.grid.max_density);
   o.cliques = c;
   o.transitions.random_graph = false;
   return o;
@@ -179,16 +186,24 @@ NullResult run_null_model(const NullSpec& spec, const series::Series& series,
 
   if (spec.model == "rewire_nested") {
     // One nested rewiring per draw (layers between grid points), chi in one pass.
+    const std::optional<double> limit =
+        spec.max_density ? spec.max_density
+                         : (observed.options.cliques ? observed.options.cliques->max_density : std::nullopt);
+    std::vector<filtration::GridPoint> grid;
     std::vector<std::size_t> ends;
-    for (const auto& p : observed.grid)
+    for (const auto& p : observed.grid) {
+      if (limit && p.density > *limit + 1e-12) break;
+      grid.push_back(p);
       if (ends.empty() || p.edges > ends.back()) ends.push_back(p.edges);
+    }
     for (int j = 0; j < spec.count; ++j) {
       simulate::RewireOptions ro;
       ro.swaps_per_edge = spec.rewire_swaps_per_edge;
       ro.seed = draw_seed(spec.seed, static_cast<std::uint64_t>(j));
       const auto rewired = simulate::rewire_nested(observed.filtration, ends, ro);
       if (!rewired.complete) ++result.incomplete_rewirings;
-      std::vector<double> chi = chi_of_nested(observed.nodes, rewired.edges, observed.grid, threads);
+      std::vector<double> chi = chi_of_nested(observed.nodes, rewired.edges, grid, threads);
+      chi.resize(points, std::numeric_limits<double>::quiet_NaN());
       result.first_zeros.push_back(first_zero_of(density, chi));
       curves.push_back(std::move(chi));
       report(static_cast<std::size_t>(j) + 1);
@@ -214,7 +229,7 @@ NullResult run_null_model(const NullSpec& spec, const series::Series& series,
     simulate::SurrogateOptions so;
     so.method = simulate::surrogate_method_from_name(spec.model);
     so.iaaft_iterations = spec.iaaft_iterations;
-    const SweepOptions null_options = null_sweep_options(observed.options);
+    const SweepOptions null_options = null_sweep_options(observed.options, spec.max_density);
     for (int j = 0; j < spec.count; ++j) {
       so.seed = draw_seed(spec.seed, static_cast<std::uint64_t>(j));
       series::Series surrogate = series;

@@ -5,6 +5,7 @@
 #pragma once
 
 #include <cstdint>
+#include <optional>
 #include <string>
 #include <vector>
 
@@ -23,6 +24,10 @@ struct NullSpec {
   int iaaft_iterations = 100;
   double rewire_swaps_per_edge = 10.0;
   int min_draws_for_z = 100;  // fewer draws with a zero: no z-score, only the percentile rank
+  // The null sweeps' own range (chi only); unset: the clique engine's range. Null graphs
+  // are closer to random than the observed ones, and chi of a random graph is costly
+  // at high density, so this is the main lever on a null's cost.
+  std::optional<double> max_density;
 };
 const OptionSection& null_option_section();
 NullSpec parse_null_spec(const Json& section, const std::string& where);
@@ -59,6 +64,6 @@ NullResult run_null_model(const NullSpec& spec, const series::Series& series,
 
 // Options for a null run of the sweep: the same filtration and grid, chi only (no
 // homology, curvature or random-graph reference), which is all the comparison needs.
-SweepOptions null_sweep_options(const SweepOptions& options);
+SweepOptions null_sweep_options(const SweepOptions& options, std::optional<double> max_density = std::nullopt);
 
 }  // namespace critplex::pipeline

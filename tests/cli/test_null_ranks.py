@@ -115,6 +115,20 @@ class NullRanks(unittest.TestCase):
             checked += 1
         self.assertGreater(checked, 0)
 
+    def test_nested_rewiring_over_its_own_range(self):
+        # property (invented data): the null's own range leaves its mean chi n/a past it; the
+        # draws are seeded (same config, same values); each draw is a graph with a zero or not.
+        _, docs = self.cohort("nested", {"model": "rewire_nested", "count": 12, "seed": 3, "max_density": 0.3})
+        _, again = self.cohort("nested_again", {"model": "rewire_nested", "count": 12, "seed": 3, "max_density": 0.3})
+        for doc, doc2 in zip(docs, again):
+            null = doc["bands"][0]["null"]
+            mean_chi = null["mean_chi"]
+            self.assertEqual(len(null["first_chi_zero"]["values"]), 12)
+            self.assertEqual(null["first_chi_zero"]["values"], doc2["bands"][0]["null"]["first_chi_zero"]["values"])
+            # grid 0.025: points 0..12 lie within 0.3, the rest of the 0.6 sweep does not
+            self.assertTrue(all(v is not None for v in mean_chi[:12]))
+            self.assertTrue(all(v is None for v in mean_chi[13:]))
+
 
 if __name__ == "__main__":
     unittest.main(verbosity=2)

@@ -1,7 +1,7 @@
 #!/usr/bin/env bash
 # Builds the libFuzzer harnesses of tests/fuzz with clang (-fsanitize=fuzzer,address,
 # undefined) from the few core sources they need, and runs each from its seed corpus.
-#   bash tests/fuzz/run.sh [SECONDS_PER_HARNESS]     (default 20; tests/run.sh uses 20)
+#   bash tests/fuzz/run.sh [SECONDS_PER_HARNESS]     (default 20; tests/run.sh uses 10)
 # Longer runs for developers: bash tests/fuzz/run.sh 600 (corpora grow in build-fuzz/).
 # A crash, sanitizer report, leak, internal error or allocation past 256 MB fails the run;
 # the input that caused it is left in build-fuzz/ (crash-*, leak-*, oom-*).
@@ -17,13 +17,19 @@ sources=(core/base/options.cpp core/base/option_schema.cpp core/io/files.cpp cor
          core/io/cifti.cpp core/io/nifti.cpp core/io/confounds.cpp core/io/matrix_options.cpp core/series/series.cpp
          core/series/clean.cpp)
 objects=()
+pids=()
+jobs="$(nproc 2>/dev/null || echo 2)"
 for s in "${sources[@]}"; do
   o="$out/obj/$(echo "$s" | tr / _).o"
   if [ ! -f "$o" ] || [ "$s" -nt "$o" ] || [ -n "$(find core/base core/io core/series -name '*.hpp' -newer "$o" -print -quit)" ]; then
-    clang++ "${flags[@]}" -fsanitize=fuzzer-no-link -c "$s" -o "$o"
+    # One compile per core at a time; a failed compile fails the run at the wait below.
+    if [ "${#pids[@]}" -ge "$jobs" ]; then wait "${pids[0]}"; pids=("${pids[@]:1}"); fi
+    clang++ "${flags[@]}" -fsanitize=fuzzer-no-link -c "$s" -o "$o" &
+    pids+=($!)
   fi
   objects+=("$o")
 done
+for p in "${pids[@]}"; do wait "$p"; done
 declare -A corpus=([fuzz_tables]=tables [fuzz_confounds]=confounds [fuzz_options]=options [fuzz_nifti]=nifti
                    [fuzz_cifti]=cifti [fuzz_xml]=xml)
 total=0

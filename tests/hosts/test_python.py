@@ -45,7 +45,7 @@ class Installed(unittest.TestCase):
                          critplex.__file__)
         self.assertIn("site-packages", critplex.__file__)
         self.assertTrue(os.path.realpath(critplex.library_path()).startswith(os.path.realpath(PREFIX)))
-        self.assertEqual(critplex.__version__, "0.2.0")
+        self.assertEqual(critplex.__version__, "0.3.0")
         self.assertEqual(critplex.abi_version(), critplex.ABI_VERSION)
         self.assertEqual(critplex.version().split(".")[:2], critplex.__version__.split(".")[:2])
 

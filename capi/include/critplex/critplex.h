@@ -107,7 +107,7 @@ CPX_API void cpx_string_free(char* text);
 /* Deletes the temporary files the library is writing at this moment (every output is
  * written as "<path>.tmp-<pid>-<n>" and renamed into place). Async-signal-safe: meant for a
  * SIGINT/SIGTERM handler of the host, which then ends the process (the interrupted calls
- * must not continue). Outputs already renamed into place stay. Since 0.2. */
+ * must not continue). Outputs already renamed into place stay. Since 0.3. */
 CPX_API void cpx_remove_partial_files(void);
 
 /* cpx_build_info: what the loaded library was built with, as a JSON object:
@@ -120,7 +120,7 @@ CPX_API void cpx_remove_partial_files(void);
  * Ownership: the caller owns `out`; nothing is allocated.
  * Returns CPX_OK, CPX_ERR_BUFFER (capacity < *needed; `out` untouched),
  *   CPX_ERR_ARGUMENT (`needed` NULL, or `out` NULL with capacity > 0).
- * Threads: safe from any thread. Since 0.2. */
+ * Threads: safe from any thread. Since 0.3. */
 CPX_API cpx_status cpx_build_info(char* out, size_t capacity, size_t* needed);
 
 /* cpx_options_schema: the reference of every option key the library reads, as JSON:
@@ -130,7 +130,7 @@ CPX_API cpx_status cpx_build_info(char* out, size_t capacity, size_t* needed);
  * ("sweep.cliques"); an unknown name is CPX_ERR_ARGUMENT listing the known ones.
  * The parsers read the same tables, so this is what they accept.
  * Two-call shape as cpx_build_info. Returns CPX_OK, CPX_ERR_BUFFER, CPX_ERR_ARGUMENT.
- * Threads: safe from any thread. Since 0.2. */
+ * Threads: safe from any thread. Since 0.3. */
 CPX_API cpx_status cpx_options_schema(const char* section, char* out, size_t capacity, size_t* needed);
 
 /* ------------------------------------------------------------------------------------ */
@@ -408,7 +408,8 @@ CPX_API cpx_status cpx_stats_t_quantile(double probability, double degrees_of_fr
  * "p_value", "p_adjusted", "p_parametric", "exact", "null_size", "estimate",
  * "estimate_interval", "effect", "effect_value", "effect_interval", "spearman_rho",
  * "spearman_p", ...}], "permutations_used" (with record_permutations)}. Errors name the
- * key or the missing column. */
+ * key or the missing column. Ownership: *result_json is a new string for cpx_string_free.
+ * Returns CPX_OK, CPX_ERR_ARGUMENT, CPX_ERR_DATA. Threads: any thread. Since 0.3. */
 CPX_API cpx_status cpx_stats_design_test(const char* data_json, const char* design_json, char** result_json);
 
 /* cpx_surrogate: A surrogate of `series` (same shape, names and sampling interval). Options:
@@ -509,7 +510,7 @@ CPX_API cpx_status cpx_cohort_report(const char* dir, const char* options_json, 
  * Threads: any thread; two calls must not share dir. Since 0.1. */
 CPX_API cpx_status cpx_simulate_study(const char* options_json, const char* dir, char** summary_json);
 
-/* Dataset mode (since 0.2): a preprocessed BIDS derivatives folder in, a BIDS derivatives
+/* cpx_dataset_run: dataset mode, a preprocessed BIDS derivatives folder in, a BIDS derivatives
  * dataset out. level "participant": every sub-<l>/[ses-<l>/]func/..._desc-preproc_bold run
  * (.nii, .nii.gz, .dtseries.nii, .ptseries.nii) passing the filter goes through the subject
  * pipeline with RepetitionTime from its JSON sidecar (the sidecar wins over the header; a
@@ -526,7 +527,9 @@ CPX_API cpx_status cpx_simulate_study(const char* options_json, const char* dir,
  * group column (one run per participant: with several sessions, "compare_session" picks
  * one); options {"compare": {compare options}, "compare_session": ""}. summary_json (free
  * with cpx_string_free): {"level", "runs", "done", "skipped", "failed", "warnings", ...};
- * NULL on failure. progress may be NULL. Independent calls on different folders: safe in parallel. */
+ * NULL on failure. progress may be NULL. Returns CPX_OK, CPX_ERR_ARGUMENT, CPX_ERR_IO,
+ * CPX_ERR_PARSE, CPX_ERR_DATA, CPX_ERR_CANCELLED. Threads: independent calls on different
+ * folders are safe in parallel. Since 0.3. */
 CPX_API cpx_status cpx_dataset_run(const char* derivatives_dir, const char* out_dir, const char* level,
                                    const char* options_json, cpx_progress_fn progress, void* user, char** summary_json);
 

@@ -20,7 +20,7 @@ from ._handles import (Matrix, Series, Sweep, connect, connect_bands, has_pandas
 from ._study import (CohortRun, Comparison, Report, Study, SubjectBand, SubjectResult, compare, design_test,
                      report, run_cohort, run_dataset, run_subject, simulate_study)
 
-__version__ = "0.2.0"
+__version__ = "0.3.0"
 
 __all__ = [
     "__version__", "ABI_VERSION", "CritplexError", "LibraryNotFound", "AbiMismatch", "load_library", "library",
