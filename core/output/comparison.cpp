@@ -234,6 +234,8 @@ pipeline::Comparison read_comparison(const Json& doc, const std::string& path) {
       for (const auto& t : gd.value("subject_chi", Json::array())) g.subject_chi.push_back(numbers(t));
       c.groups.push_back(std::move(g));
     }
+    if (c.options.design && doc.contains("design_tests"))
+      c.design = design_result_from_json(doc.at("design_tests"), *c.options.design);
     for (const auto& tj : doc.at("tests")) {
       pipeline::SummaryTest t;
       t.group_a = tj.at("group_a").get<std::string>();

@@ -121,6 +121,52 @@ Json design_result_json(const cohort::DesignResult& r) {
   return doc;
 }
 
+cohort::DesignResult design_result_from_json(const Json& doc, const cohort::DesignSpec& spec) {
+  const double none = std::numeric_limits<double>::quiet_NaN();
+  auto number = [&](const Json& j, const char* key) {
+    return j.contains(key) && j[key].is_number() ? j[key].get<double>() : none;
+  };
+  auto pair = [&](const Json& j, const char* key, double& lo, double& hi) {
+    lo = hi = none;
+    if (j.contains(key) && j[key].is_array() && j[key].size() == 2) {
+      if (j[key][0].is_number()) lo = j[key][0].get<double>();
+      if (j[key][1].is_number()) hi = j[key][1].get<double>();
+    }
+  };
+  cohort::DesignResult r;
+  r.spec = spec;
+  r.levels = doc.value("levels", std::vector<std::string>{});
+  r.notes = doc.value("notes", std::vector<std::string>{});
+  for (const auto& j : doc.at("tests")) {
+    cohort::DesignTest t;
+    t.measure = j.at("measure").get<std::string>();
+    t.term = j.value("term", "");
+    t.tested = j.value("tested", false);
+    t.n = j.value("n", std::size_t{0});
+    t.missing = j.value("missing", std::size_t{0});
+    t.note = j.value("note", "");
+    if (t.tested) {
+      t.levels = j.value("levels", std::vector<std::string>{});
+      t.statistic_name = j.value("statistic", "");
+      t.statistic = number(j, "value");
+      t.df1 = number(j, "df1");
+      t.df2 = number(j, "df2");
+      t.p_value = number(j, "p_value");
+      t.p_adjusted = number(j, "p_adjusted");
+      t.p_parametric = number(j, "p_parametric");
+      t.exact = j.value("exact", false);
+      t.null_size = j.value("null_size", std::uint64_t{0});
+      t.estimate = number(j, "estimate");
+      pair(j, "estimate_interval", t.estimate_lower, t.estimate_upper);
+      t.effect_name = j.value("effect", "");
+      t.effect = number(j, "effect_value");
+      pair(j, "effect_interval", t.effect_lower, t.effect_upper);
+    }
+    r.tests.push_back(std::move(t));
+  }
+  return r;
+}
+
 std::string design_tests_tsv(const cohort::DesignResult& r) {
   Tsv table({"measure", "design", "term", "levels", "n", "missing", "statistic", "value", "df1", "df2", "p_value", "p_adjusted",
              "p_parametric", "exact", "null_size", "estimate", "estimate_lower", "estimate_upper", "effect",

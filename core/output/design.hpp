@@ -17,6 +17,10 @@ Json design_spec_json(const cohort::DesignSpec& spec);
 // {"kind": "critplex design tests", "design": {...}, "levels", "tests": [...],
 //  "permutations_used" (only when recorded)}.
 Json design_result_json(const cohort::DesignResult& result);
+// The tests and notes of design_result_json read back (for the report); `spec` is the
+// design as the comparison's options give it. Curve tests and recorded rearrangements are
+// not read.
+cohort::DesignResult design_result_from_json(const Json& doc, const cohort::DesignSpec& spec);
 // One row per measure: measure, design, levels, n, missing, statistic, value, df1, df2,
 // p_value, p_adjusted, p_parametric, exact, null_size, estimate and interval, effect and
 // interval, spearman_rho, spearman_p, note.

@@ -80,6 +80,45 @@ void add_provenance(const Json& p, report::ReportInput& in) {
 
 }  // namespace
 
+std::string number_text(double x, int digits) {
+  if (!std::isfinite(x)) return "n/a";
+  char buf[40];
+  std::snprintf(buf, sizeof buf, "%.*g", digits, x);
+  return buf;
+}
+
+// The design's tests as a table: tested measures first, as the design listed them.
+void add_design(const cohort::DesignResult& d, report::ReportInput& in) {
+  in.design_title = std::string("Study design: ") + cohort::design_name(d.spec.kind) + " (permutation tests per summary)";
+  in.design_tests.header = {"summary", "term", "levels", "n", "statistic", "estimate [interval]", "effect",
+                            "p", "p adjusted", "rearrangements"};
+  for (int pass = 0; pass < 2; ++pass)
+    for (const auto& t : d.tests) {
+      if (t.tested != (pass == 0)) continue;
+      std::string levels;
+      for (const auto& l : t.levels) levels += (levels.empty() ? "" : " / ") + l;
+      if (!t.tested) {
+        in.design_tests.rows.push_back({output::summary_label(t.measure), t.term, levels, std::to_string(t.n), "", "",
+                                        "", "", "", "not tested: " + t.note});
+        continue;
+      }
+      in.design_tests.rows.push_back(
+          {output::summary_label(t.measure), t.term, levels, std::to_string(t.n),
+           t.statistic_name + " = " + number_text(t.statistic, 4),
+           number_text(t.estimate, 4) + " [" + number_text(t.estimate_lower, 3) + ", " + number_text(t.estimate_upper, 3) + "]",
+           t.effect_name + " " + number_text(t.effect, 3), number_text(t.p_value, 4), number_text(t.p_adjusted, 4),
+           (t.exact ? "exact, " : "Monte Carlo, ") + std::to_string(t.null_size)});
+    }
+  in.design_notes = d.notes;
+  if (!d.spec.covariates.empty()) {
+    std::string cov;
+    for (const auto& c : d.spec.covariates) cov += (cov.empty() ? "" : ", ") + c;
+    in.design_notes.push_back("Covariates " + cov + " by Freedman-Lane permutation of the nuisance model's residuals.");
+  }
+  if (!d.spec.blocks.empty()) in.design_notes.push_back("Rearrangements within the blocks of \"" + d.spec.blocks + "\".");
+  in.design_notes.push_back("p adjusted: Benjamini-Hochberg across the tested summaries.");
+}
+
 std::string report_html(const Comparison& c, const std::string& created) {
   report::ReportInput in;
   in.title = "Topology of functional networks: group comparison";
@@ -204,6 +243,7 @@ std::string report_html(const Comparison& c, const std::string& created) {
       in.tests.push_back(std::move(row));
     }
   }
+  if (c.design) add_design(*c.design, in);
   return report::build_report(in);
 }
 

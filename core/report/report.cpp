@@ -643,6 +643,12 @@ std::string build_report(const ReportInput& in) {
     for (const auto& hp : in.null_histograms) h << "<div class=\"panel\">" << svg_histogram(hp) << "</div>\n";
     h << "</div>\n";
   }
+  if (!in.design_tests.rows.empty()) {
+    h << "<h2 id=\"design-tests\">" << escape(in.design_title) << "</h2>\n<div class=\"panel wide\">"
+      << table_html(in.design_tests, "design-table");
+    for (const auto& note : in.design_notes) h << "<p class=\"lede\">" << escape(note) << "</p>\n";
+    h << "</div>\n";
+  }
   if (!in.methods_text.empty()) {
     h << "<h2 id=\"methods\">Methods</h2>\n<div class=\"panel methods\">";
     std::size_t at = 0;

@@ -139,6 +139,10 @@ struct ReportInput {
   Table checksums;  // subject, file, SHA-256
   Table quality;    // one row per subject
   std::string methods_text;  // the methods paragraph (plain text, paragraphs separated by blank lines)
+  // Study design tests (compare's "design"; empty: not shown): one row per measure and term.
+  std::string design_title;
+  Table design_tests;
+  std::vector<std::string> design_notes;
 };
 
 // Checks shapes (errors name the group and curve) and returns the whole HTML document.

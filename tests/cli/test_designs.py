@@ -145,6 +145,15 @@ class Designs(unittest.TestCase):
             self.assertAlmostEqual(float(row["p_parametric"]), tt.pvalue, places=8, msg=name)
             checked += 1
         self.assertGreaterEqual(checked, 3)
+        # The report shows the paired test: its table has the first transition's row with the
+        # same p as design_tests.tsv.
+        cli("report", self.xo, "--out", os.path.join(self.tmp.name, "paired_report.html"))
+        with open(os.path.join(self.tmp.name, "paired_report.html")) as f:
+            html = f.read()
+        self.assertIn("Study design: paired", html)
+        first = next(r for r in table if r["measure"] == "first_chi_zero")
+        if first["note"] == "n/a":
+            self.assertIn(">%.4g<" % float(first["p_value"]), html)
 
     def test_paired_python_equals_command_line(self):
         cli("compare", self.xo, "--design", "paired", "--resamples", "4096")
