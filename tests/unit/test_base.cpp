@@ -156,7 +156,7 @@ const OptionSection& demo_section() {
       {{.key = "bins", .type = "integer", .default_value = 10, .min = 1, .max = 12, .meaning = "bins"},
        {.key = "rate", .type = "number", .default_value = 0.5, .min = 0, .max = 1, .max_open = true, .meaning = "rate"},
        {.key = "mode", .type = "choice", .default_value = "fast", .choices = {"fast", "exact"}, .meaning = "mode"},
-       {.key = "verbose", .type = "boolean", .default_value = false, .meaning = "talk"}}};
+       {.key = "verbose", .type = "boolean", .default_value = false, .meaning = "print more"}}};
   return section;
 }
 }  // namespace
