@@ -129,6 +129,8 @@ Json comparison_json(const pipeline::Comparison& c) {
   Json groups = Json::array();
   for (const auto& g : c.groups) {
     Json gd{{"name", g.name}, {"subjects", g.subjects}};
+    if (std::any_of(g.sessions.begin(), g.sessions.end(), [](const std::string& s) { return !s.empty(); }))
+      gd["sessions"] = g.sessions;
     Json curves = Json::object();
     for (const auto& [name, band] : g.curves) {
       curves[name] = band_json(band);
@@ -227,6 +229,7 @@ pipeline::Comparison read_comparison(const Json& doc, const std::string& path) {
       pipeline::GroupResult g;
       g.name = gd.at("name").get<std::string>();
       g.subjects = gd.at("subjects").get<std::vector<std::string>>();
+      g.sessions = gd.value("sessions", std::vector<std::string>(g.subjects.size()));
       for (auto it = gd.at("curves").begin(); it != gd.at("curves").end(); ++it) g.curves[it.key()] = band_of(it.value());
       for (auto it = gd.at("summaries").begin(); it != gd.at("summaries").end(); ++it)
         g.summaries[it.key()] = numbers(it.value());

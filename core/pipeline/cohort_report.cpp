@@ -1,7 +1,9 @@
 // The cohort report: a comparison mapped onto core/report's value types.
+#include <array>
 #include <cmath>
 #include <cstdio>
 #include <limits>
+#include <map>
 
 #include "base/error.hpp"
 #include "output/comparison.hpp"
@@ -117,6 +119,55 @@ void add_design(const cohort::DesignResult& d, report::ReportInput& in) {
   }
   if (!d.spec.blocks.empty()) in.design_notes.push_back("Rearrangements within the blocks of \"" + d.spec.blocks + "\".");
   in.design_notes.push_back("p adjusted: Benjamini-Hochberg across the tested summaries.");
+}
+
+// A paired design's figure: each person's value at the two levels joined by a thin line,
+// the level means on top, for the first tested summary (the first transition when tested).
+void add_paired_figure(const Comparison& c, const cohort::DesignResult& d, report::ReportInput& in) {
+  if (d.spec.kind != cohort::DesignKind::paired || d.spec.within != "session") return;
+  const cohort::DesignTest* shown = nullptr;
+  for (const auto& t : d.tests) {
+    if (!t.tested || t.levels.size() != 2) continue;
+    if (t.measure == "first_chi_zero") {
+      shown = &t;
+      break;
+    }
+    if (shown == nullptr) shown = &t;
+  }
+  if (shown == nullptr) return;
+  std::map<std::string, std::array<double, 2>> person;  // subject -> value at each level
+  for (const auto& g : c.groups) {
+    const auto values = g.summaries.find(shown->measure);
+    if (values == g.summaries.end() || g.sessions.size() != g.subjects.size()) continue;
+    for (std::size_t i = 0; i < g.subjects.size(); ++i)
+      for (std::size_t l = 0; l < 2; ++l)
+        if (g.sessions[i] == shown->levels[l]) {
+          auto& v = person.try_emplace(g.subjects[i], std::array<double, 2>{nan_value, nan_value}).first->second;
+          v[l] = values->second[i];
+        }
+  }
+  report::Line mean;
+  mean.label = "mean of the pairs";
+  mean.x = {0.0, 1.0};
+  double sum[2] = {0, 0};
+  std::size_t n = 0;
+  for (const auto& [id, v] : person)
+    if (std::isfinite(v[0]) && std::isfinite(v[1])) {
+      mean.traces.push_back({v[0], v[1]});
+      sum[0] += v[0];
+      sum[1] += v[1];
+      ++n;
+    }
+  if (n < 2) return;
+  mean.y = {sum[0] / static_cast<double>(n), sum[1] / static_cast<double>(n)};
+  report::LinePlot plot;
+  plot.title = output::summary_label(shown->measure) + ": " + shown->levels[0] + " and " + shown->levels[1];
+  plot.x_label = "session (0 = " + shown->levels[0] + ", 1 = " + shown->levels[1] + ")";
+  plot.y_label = output::summary_label(shown->measure);
+  plot.caption = "Thin lines: each of " + std::to_string(n) + " people with both sessions; paired test " +
+                 shown->statistic_name + " = " + number_text(shown->statistic, 3) + ", p = " + number_text(shown->p_value, 3);
+  plot.lines.push_back(std::move(mean));
+  in.design_plots.push_back(std::move(plot));
 }
 
 std::string report_html(const Comparison& c, const std::string& created) {
@@ -243,7 +294,10 @@ std::string report_html(const Comparison& c, const std::string& created) {
       in.tests.push_back(std::move(row));
     }
   }
-  if (c.design) add_design(*c.design, in);
+  if (c.design) {
+    add_design(*c.design, in);
+    add_paired_figure(c, *c.design, in);
+  }
   return report::build_report(in);
 }
 

@@ -109,7 +109,10 @@ GroupResult group_result(const std::string& name, const std::vector<const output
                          const std::vector<std::string>& summary_names, const CompareOptions& o) {
   GroupResult g;
   g.name = name;
-  for (const auto* s : members) g.subjects.push_back(s->id);
+  for (const auto* s : members) {
+    g.subjects.push_back(s->id);
+    g.sessions.push_back(s->session);
+  }
   const std::size_t points = members.front()->requested.size();
   cohort::BootstrapOptions bo;
   bo.confidence = o.confidence;

@@ -37,6 +37,7 @@ CompareOptions parse_compare_options(const Json& options);
 struct GroupResult {
   std::string name;
   std::vector<std::string> subjects;
+  std::vector<std::string> sessions;  // per subject ("" when the manifest names none)
   std::map<std::string, cohort::Band> curves;  // chi, betti_k, kappa_mean, kappa_sd, forman_mean (complete ones)
   std::map<std::string, std::vector<double>> summaries;  // per subject, NaN where missing
   std::vector<double> curvature_at_transition;  // node curvatures at each subject's first chi zero, pooled

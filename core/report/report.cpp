@@ -648,6 +648,11 @@ std::string build_report(const ReportInput& in) {
       << table_html(in.design_tests, "design-table");
     for (const auto& note : in.design_notes) h << "<p class=\"lede\">" << escape(note) << "</p>\n";
     h << "</div>\n";
+    if (!in.design_plots.empty()) {
+      h << "<div class=\"pair\">\n";
+      for (const auto& p : in.design_plots) h << "<div class=\"panel\">" << svg_line_plot(p) << "</div>\n";
+      h << "</div>\n";
+    }
   }
   if (!in.methods_text.empty()) {
     h << "<h2 id=\"methods\">Methods</h2>\n<div class=\"panel methods\">";

@@ -143,6 +143,7 @@ struct ReportInput {
   std::string design_title;
   Table design_tests;
   std::vector<std::string> design_notes;
+  std::vector<LinePlot> design_plots;  // e.g. each person's two sessions joined by a line
 };
 
 // Checks shapes (errors name the group and curve) and returns the whole HTML document.

@@ -151,6 +151,8 @@ class Designs(unittest.TestCase):
         with open(os.path.join(self.tmp.name, "paired_report.html")) as f:
             html = f.read()
         self.assertIn("Study design: paired", html)
+        # ... and the paired figure: each volunteer's two sessions joined by a line
+        self.assertRegex(html, r"Thin lines: each of \d+ people with both sessions; paired test t = ")
         first = next(r for r in table if r["measure"] == "first_chi_zero")
         if first["note"] == "n/a":
             self.assertIn(">%.4g<" % float(first["p_value"]), html)
