@@ -18,7 +18,7 @@ cmake --build build -j"$jobs" --target critplex_cli >/dev/null
 critplex="build/plugins/cli/critplex"
 
 start=$(date +%s)
-# The deprived group's global signal is 0.8 stronger (README: the demo study).
+# The deprived group's global signal is 0.8 stronger (docs/demo-study.md).
 "$critplex" simulate --out "$out/study" --subjects 20 --effect 0.8 --seed 2026
 "$critplex" cohort "$out/study/manifest.tsv" --config "$out/study/cohort_config.json" --out "$out/results"
 "$critplex" compare "$out/results" --covariates age
