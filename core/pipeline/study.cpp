@@ -13,7 +13,6 @@
 
 namespace critplex::pipeline {
 
-namespace {
 std::string series_tsv(const series::Series& s) {
   std::string out;
   for (std::size_t j = 0; j < s.names.size(); ++j) out += (j ? "\t" : "") + s.names[j];
@@ -24,7 +23,6 @@ std::string series_tsv(const series::Series& s) {
   }
   return out;
 }
-}  // namespace
 
 Json demo_analysis_config() {
   return Json::parse(R"({

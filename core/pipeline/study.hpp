@@ -33,6 +33,9 @@ Json demo_analysis_config();
 // model.json: the model, every subject's drawn parameters and a note that the data are invented.
 Json model_document(const simulate::CohortModel& model, const simulate::CohortPlan& plan);
 
+// A series as the tsv layout writes it: a header of region names, one row per frame.
+std::string series_tsv(const series::Series& s);
+
 // The crossover form (tsv layout): the first group's subjects are volunteers scanned in two
 // sessions named after the two groups (e.g. rested, deprived); the second session adds the
 // groups' difference in global_mean to the volunteer's global strength, plus a small

@@ -12,17 +12,6 @@ namespace critplex::pipeline {
 
 namespace {
 
-std::string series_text(const series::Series& s) {
-  std::string out;
-  for (std::size_t j = 0; j < s.names.size(); ++j) out += (j ? "\t" : "") + s.names[j];
-  out += "\n";
-  for (Eigen::Index t = 0; t < s.frames(); ++t) {
-    for (Eigen::Index j = 0; j < s.regions(); ++j) out += (j ? "\t" : "") + io::format_double(s.values(t, j));
-    out += "\n";
-  }
-  return out;
-}
-
 // One session of a volunteer: its own seed (fresh signals, same person), the volunteer's
 // trait global strength shifted by the session's effect plus a small day-to-day change.
 struct Session {
@@ -76,7 +65,7 @@ Json write_crossover_study(const simulate::CohortModel& model, Json config, cons
     for (const auto& s : sessions_of(model, volunteers[i], i)) {
       plan.subjects[i] = s.subject;
       const std::string rel = "timeseries/sub-" + id + "_ses-" + s.name + "_timeseries.tsv";
-      io::write_file_atomically(dir + "/" + rel, series_text(simulate::simulate_subject(volunteers_model, plan, i)));
+      io::write_file_atomically(dir + "/" + rel, series_tsv(simulate::simulate_subject(volunteers_model, plan, i)));
       manifest += id + "\t" + s.name + "\tvolunteers\t" + rel + "\t" + io::format_double(volunteers[i].age) + "\t" +
                   io::format_double(s.sleepiness) + "\n";
       rows.push_back({{"subject", id}, {"session", s.name}, {"global_strength", s.subject.global_strength},

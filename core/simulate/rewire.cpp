@@ -17,6 +17,24 @@ std::uint64_t key(std::uint32_t u, std::uint32_t v) {
   return (static_cast<std::uint64_t>(u) << 32) | v;
 }
 
+// One Maslov-Sneppen proposal on edges i and j: a-b and c-d become a-d and c-b (or, by a
+// coin, a-c and d-b) unless that makes a self-loop or a duplicate. True when swapped.
+bool try_swap(EdgeList& edges, std::unordered_set<std::uint64_t>& present, std::size_t i, std::size_t j,
+              Random& random) {
+  auto [a, b] = edges[i];
+  auto [c, d] = edges[j];
+  if (random.below(2) == 1) std::swap(c, d);  // both ways of reconnecting are proposed
+  if (a == d || c == b) return false;         // self-loop
+  if (present.count(key(a, d)) || present.count(key(c, b))) return false;  // duplicate
+  present.erase(key(a, b));
+  present.erase(key(c, d));
+  present.insert(key(a, d));
+  present.insert(key(c, b));
+  edges[i] = {std::min(a, d), std::max(a, d)};
+  edges[j] = {std::min(c, b), std::max(c, b)};
+  return true;
+}
+
 }  // namespace
 
 std::vector<std::size_t> degrees(std::size_t nodes, const EdgeList& edges) {
@@ -61,18 +79,7 @@ RewireResult rewire(std::size_t nodes, const EdgeList& edges, const RewireOption
     const auto i = static_cast<std::size_t>(random.below(m));
     auto j = static_cast<std::size_t>(random.below(m - 1));
     if (j >= i) ++j;  // two distinct edges
-    auto [a, b] = result.edges[i];
-    auto [c, d] = result.edges[j];
-    if (random.below(2) == 1) std::swap(c, d);  // both ways of reconnecting are proposed
-    if (a == d || c == b) continue;             // self-loop
-    if (present.count(key(a, d)) || present.count(key(c, b))) continue;  // duplicate
-    present.erase(key(a, b));
-    present.erase(key(c, d));
-    present.insert(key(a, d));
-    present.insert(key(c, b));
-    result.edges[i] = {std::min(a, d), std::max(a, d)};
-    result.edges[j] = {std::min(c, b), std::max(c, b)};
-    ++result.swaps;
+    if (try_swap(result.edges, present, i, j, random)) ++result.swaps;
   }
   result.complete = result.swaps >= wanted;
   std::sort(result.edges.begin(), result.edges.end());
@@ -116,18 +123,7 @@ RewireResult rewire_nested(const filtration::Filtration& f, const std::vector<st
     if (hi - lo < 2) continue;  // a layer of one edge has nothing to swap with
     auto j = lo + static_cast<std::size_t>(random.below(hi - lo - 1));
     if (j >= i) ++j;
-    auto [a, b] = result.edges[i];
-    auto [c, d] = result.edges[j];
-    if (random.below(2) == 1) std::swap(c, d);
-    if (a == d || c == b) continue;
-    if (present.count(key(a, d)) || present.count(key(c, b))) continue;
-    present.erase(key(a, b));
-    present.erase(key(c, d));
-    present.insert(key(a, d));
-    present.insert(key(c, b));
-    result.edges[i] = {std::min(a, d), std::max(a, d)};
-    result.edges[j] = {std::min(c, b), std::max(c, b)};
-    ++result.swaps;
+    if (try_swap(result.edges, present, i, j, random)) ++result.swaps;
   }
   result.complete = result.swaps >= wanted;
   return result;
