@@ -478,6 +478,7 @@ GridCounts count_on_grid(const filtration::Filtration& f, const std::vector<filt
   Reduction reduction(n, o, schedule, original, max_nodes, shares);
   reduction.run(walk);
   map_to_grid(f, grid, o, schedule, reduction, result);
+  result.every_size_points = o.chi_only ? 0 : result.complete_points;
   result.curvature_exact = shares.exact;
   result.curvature_denominator = shares.denominator;
   return result;

@@ -36,6 +36,9 @@ struct Options {
   bool node_counts = false;
   bool chi_only = false;
   std::optional<double> max_density;  // the engine's own range (pipeline/sweep.cpp cuts the grid)
+  // The every-size counts' range; beyond it chi only (pipeline/sweep.cpp runs the two
+  // walks and joins them). Unset: the sweep's default (see option_section()).
+  std::optional<double> counts_max_density;
   double max_seconds = 0;              // 0: none; else wall time after which the engine stops
   // Internal (set by the sweep, not an option key): node curvature straight from the
   // pivoting tree's leaves (GridCounts::curvature_*), one addition per node of a leaf.
@@ -53,6 +56,9 @@ struct GridCounts {
   std::vector<int128> chi;                   // [grid point]
   std::vector<std::vector<std::vector<int128>>> node_counts;  // [grid point][node][k]: k-simplices containing the node (k=0 gives 1); filled when requested
   std::size_t complete_points = 0;           // grid points fully computed (a budget may stop earlier)
+  // Leading points whose counts hold every clique size; the later complete points hold
+  // Cl_0 and Cl_1 only (chi_only, or past counts_max_density). Set by count_on_grid.
+  std::size_t every_size_points = 0;
   std::string stopped_by;                    // "" when complete, else "max_work", "max_dimension" (when it truncates counts), "count_overflow", "max_seconds"
   // Points at index >= complete_points: counts[k] exact for k <= max_dimension when
   // stopped_by is "max_dimension" (chi is then not exact); empty vectors otherwise.

@@ -23,10 +23,10 @@ const OptionSection& option_section() {
         .meaning = "cap on the number of automatic bins"},
        {.key = "range", .type = "numbers", .meaning = "[lo, hi] of the node curvature histogram (fixed bins only)"},
        {.key = "forman_range", .type = "numbers", .meaning = "[lo, hi] of the Forman-Ricci histogram (fixed bins only)"},
-       {.key = "max_density", .type = "number", .default_note = "the clique engine's", .min = 0, .max = 1,
+       {.key = "max_density", .type = "number", .default_note = "the every-size counts' range (cliques.counts_max_density)", .min = 0, .max = 1,
         .min_open = true,
-        .meaning = "this engine's own range; below the clique engine's (or with cliques.chi_only) a separate full "
-                   "count runs to this density only, so chi can go further than the costly every-size counts"}}};
+        .meaning = "this engine's own range; when it differs from cliques.counts_max_density (or with "
+                   "cliques.chi_only) a separate full count runs to this density only"}}};
   return section;
 }
 

@@ -15,8 +15,10 @@ const OptionSection& option_section() {
         .meaning = "budget in cofacets visited; dimensions finished before the stop stay complete"},
        {.key = "threads", .type = "integer", .default_value = 0, .default_note = "0 = every core", .min = 0,
         .max = 1024, .meaning = "threads for enumerating simplices; results do not depend on it"},
-       {.key = "max_density", .type = "number", .default_note = "the sweep's max_density", .min = 0, .max = 1,
-        .min_open = true, .meaning = "this engine's own range: bars and Betti curves of the filtration cut at the last grid point at or below it (columns beyond are n/a)"}}};
+       {.key = "max_density", .type = "number", .default_note = "the sweep's max_density when given; else 0.3 above 100 regions, 1 up to 100",
+        .min = 0, .max = 1, .min_open = true,
+        .meaning = "this engine's own range: bars and Betti curves of the filtration cut at the last grid point at or "
+                   "below it (columns beyond are n/a)"}}};
   return section;
 }
 

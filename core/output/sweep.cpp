@@ -53,7 +53,9 @@ void add_clique_columns(const pipeline::SweepResult& r, std::vector<CurveColumn>
     if (exact) set(chi, g, gc.chi[g]);
     for (std::size_t k = 0; k < width; ++k) {
       // Past a max_dimension stop, counts up to the cap are still exact.
-      const bool known = have && (exact || o.max_dimension < 0 || static_cast<int>(k) <= o.max_dimension);
+      // Past the every-size counts' range only Cl_0 and Cl_1 are counted.
+      const bool counted = have && (k < gc.counts[g].size() || g < gc.every_size_points || !exact);
+      const bool known = counted && (exact || o.max_dimension < 0 || static_cast<int>(k) <= o.max_dimension);
       if (known) set(counts[k], g, k < gc.counts[g].size() ? gc.counts[g][k] : int128{0});
     }
   }
@@ -158,11 +160,16 @@ Json cliques_section(const pipeline::SweepResult& r) {
   const cliques::Options& o = *r.options.cliques;
   Json section;
   section["options"] = Json{{"max_dimension", o.max_dimension}, {"max_work", o.max_work}, {"threads", o.threads},
-                            {"node_counts", o.node_counts}, {"chi_only", o.chi_only}};
+                            {"node_counts", o.node_counts}, {"chi_only", o.chi_only},
+                            {"max_density", o.max_density ? Json(*o.max_density) : Json(nullptr)},
+                            {"counts_max_density", o.counts_max_density ? Json(*o.counts_max_density) : Json(nullptr)}};
   section["stopped_by"] = gc.stopped_by.empty() ? Json(nullptr) : Json(gc.stopped_by);
   section["complete_points"] = gc.complete_points;
   section["complete_to_density"] =
       gc.complete_points == 0 ? Json(nullptr) : Json(r.grid[gc.complete_points - 1].density);
+  section["every_size_points"] = gc.every_size_points;
+  section["every_size_to_density"] =
+      gc.every_size_points == 0 ? Json(nullptr) : Json(r.grid[gc.every_size_points - 1].density);
   section["complete_edges"] = gc.complete_edges;
   section["work"] = gc.work;
   Json points = Json::array();
@@ -470,9 +477,14 @@ Json sweep_options_json(const pipeline::SweepOptions& o) {
                         {"threads", o.cliques->threads}, {"chi_only", o.cliques->chi_only},
                         {"node_counts", o.cliques->node_counts}};
   else j["cliques"] = false;
-  if (o.homology)
+  // Engine ranges as run (resolved from their defaults by the sweep), when known.
+  if (o.cliques && o.cliques->max_density) j["cliques"]["max_density"] = *o.cliques->max_density;
+  if (o.cliques && o.cliques->counts_max_density) j["cliques"]["counts_max_density"] = *o.cliques->counts_max_density;
+  if (o.homology) {
     j["homology"] = Json{{"max_dimension", o.homology->max_dimension}, {"max_work", o.homology->max_work},
                          {"threads", o.homology->threads}};
+    if (o.homology->max_density) j["homology"]["max_density"] = *o.homology->max_density;
+  }
   if (o.curvature) {
     const curvature::Options& c = *o.curvature;
     Json k{{"node_curves", c.node_curves}, {"forman", c.forman}, {"quantiles", c.quantile_levels},
@@ -480,6 +492,7 @@ Json sweep_options_json(const pipeline::SweepOptions& o) {
     k["bins"] = c.auto_bins ? Json("auto") : Json(c.bins);
     if (!c.node_range.empty()) k["range"] = c.node_range;
     if (!c.forman_range.empty()) k["forman_range"] = c.forman_range;
+    if (c.max_density) k["max_density"] = *c.max_density;
     j["curvature"] = std::move(k);
   }
   j["transitions"] = Json{{"enabled", o.transitions.enabled}, {"random_graph", o.transitions.random_graph},

@@ -37,10 +37,11 @@ const OptionSection& null_option_section() {
        {.key = "min_draws_for_z", .type = "integer", .default_value = 100, .min = 2, .max = 10000,
         .meaning = "null draws with a transition needed before a z-score is reported; with fewer, only the "
                    "empirical percentile rank (resolution 1/(count+1)) and a warning"},
-       {.key = "max_density", .type = "number", .default_note = "the clique engine's range", .min = 0, .max = 1,
-        .min_open = true,
+       {.key = "max_density", .type = "number", .default_note = "0.3 above 100 regions, else the clique engine's range (never past it)", .min = 0,
+        .max = 1, .min_open = true,
         .meaning = "the null sweeps' own range (chi only); null graphs are near random, whose chi is costly at high "
-                   "density, so a range just past the transitions of interest cuts a null's cost most"}}};
+                   "density, so a range just past the transitions of interest cuts a null's cost most. A draw "
+                   "without a chi zero in range counts as above every density in the percentile rank"}}};
   return section;
 }
 
@@ -154,15 +155,21 @@ std::string NullResult::warning() const {
   return buf;
 }
 
-SweepOptions null_sweep_options(const SweepOptions& options, std::optional<double> max_density) {
+std::optional<double> null_range(const SweepOptions& options, std::size_t nodes, std::optional<double> max_density) {
+  // The default (docs/options.md, subject.null), within the clique engine's range.
+  const std::optional<double> chi_range = options.cliques ? options.cliques->max_density : std::nullopt;
+  if (!max_density) max_density = std::min(default_engine_ranges(nodes).null, chi_range.value_or(options.grid.max_density));
+  return std::min(*max_density, options.grid.max_density);
+}
+
+SweepOptions null_sweep_options(const SweepOptions& options, std::size_t nodes, std::optional<double> max_density) {
   SweepOptions o;
   o.weights = options.weights;
   o.grid = options.grid;
   cliques::Options c;
   c.chi_only = true;
   if (options.cliques) c.threads = options.cliques->threads;
-  if (!max_density && options.cliques) max_density = options.cliques->max_density;
-  if (max_density) c.max_density = std::min(*max_density, options.grid.max_density);
+  c.max_density = null_range(options, nodes, max_density);
   o.cliques = c;
   o.transitions.random_graph = false;
   return o;
@@ -186,9 +193,7 @@ NullResult run_null_model(const NullSpec& spec, const series::Series& series,
 
   if (spec.model == "rewire_nested") {
     // One nested rewiring per draw (layers between grid points), chi in one pass.
-    const std::optional<double> limit =
-        spec.max_density ? spec.max_density
-                         : (observed.options.cliques ? observed.options.cliques->max_density : std::nullopt);
+    const std::optional<double> limit = null_range(observed.options, observed.nodes, spec.max_density);
     std::vector<filtration::GridPoint> grid;
     std::vector<std::size_t> ends;
     for (const auto& p : observed.grid) {
@@ -229,7 +234,7 @@ NullResult run_null_model(const NullSpec& spec, const series::Series& series,
     simulate::SurrogateOptions so;
     so.method = simulate::surrogate_method_from_name(spec.model);
     so.iaaft_iterations = spec.iaaft_iterations;
-    const SweepOptions null_options = null_sweep_options(observed.options, spec.max_density);
+    const SweepOptions null_options = null_sweep_options(observed.options, observed.nodes, spec.max_density);
     for (int j = 0; j < spec.count; ++j) {
       so.seed = draw_seed(spec.seed, static_cast<std::uint64_t>(j));
       series::Series surrogate = series;

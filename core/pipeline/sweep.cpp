@@ -134,12 +134,67 @@ void pad_to_grid(cliques::GridCounts& gc, std::size_t points) {
   if (!gc.curvature_numerators.empty()) gc.curvature_numerators.resize(points);
 }
 
+// Every-size counts (the shorter range) joined into the chi walk's result: their chi
+// must agree wherever both are complete (an independent check of both walks).
+void join_every_size_counts(const cliques::GridCounts& every, cliques::GridCounts& chi) {
+  const std::size_t both = std::min(every.complete_points, chi.complete_points);
+  for (std::size_t g = 0; g < both; ++g) {
+    if (every.chi[g] != chi.chi[g])
+      fail(ErrorKind::internal, "clique engine: chi of the every-size counts and of the chi walk differ at grid point " +
+                                    std::to_string(g));
+    chi.counts[g] = every.counts[g];
+  }
+  chi.every_size_points = both;
+  if (!every.node_counts.empty()) chi.node_counts = every.node_counts;
+  chi.work += every.work;
+}
+
+void resolve_engine_ranges(SweepOptions& o, std::size_t nodes) {
+  const double sweep = o.grid.max_density;
+  // A sweep range the user gave is the range of interest: every engine defaults to it.
+  const EngineDefaults d = o.range_given ? EngineDefaults{sweep, sweep, sweep, sweep} : default_engine_ranges(nodes);
+  // A range that reaches the sweep's stays unset: the engine sees the whole filtration
+  // (with a tie group that runs past the last grid point).
+  auto limit = [sweep](double x) { return x < sweep ? std::optional<double>(x) : std::nullopt; };
+  const auto value = [sweep](const std::optional<double>& x) { return x.value_or(sweep); };
+  if (o.cliques) {
+    cliques::Options& c = *o.cliques;
+    if (!c.max_density) c.max_density = limit(std::max(d.chi, c.counts_max_density.value_or(0.0)));
+    if (!c.chi_only && !c.counts_max_density) c.counts_max_density = limit(std::min(d.counts, value(c.max_density)));
+  }
+  if (o.homology && !o.homology->max_density) o.homology->max_density = limit(d.homology);
+  if (o.curvature && !o.curvature->max_density)
+    o.curvature->max_density = o.cliques->chi_only ? limit(std::min(d.counts, value(o.cliques->max_density)))
+                                                   : o.cliques->counts_max_density;
+  // The Erdos-Renyi reference is searched up to the furthest engine range, not beyond.
+  if (o.transitions.max_p == 0.0) {
+    double furthest = 0.0;
+    if (o.cliques) furthest = std::max(furthest, value(o.cliques->max_density));
+    if (o.homology) furthest = std::max(furthest, value(o.homology->max_density));
+    if (furthest > 0.0 && furthest < sweep) o.transitions.max_p = std::max(0.05, furthest);
+  }
+}
+
 }  // namespace
+
+EngineDefaults default_engine_ranges(std::size_t nodes) {
+  // Up to 100 regions every engine over the whole range costs about 2 s; at 150 regions
+  // the every-size counts alone take minutes (docs/performance.md).
+  constexpr std::size_t kSmallNetwork = 100;
+  if (nodes <= kSmallNetwork) return {1.0, 1.0, 1.0, 1.0};
+  return {0.5, 0.1, 0.3, 0.3};
+}
 
 void SweepOptions::validate() const {
   if (curvature && !cliques)
     fail(ErrorKind::argument, "sweep options: \"curvature\" needs the clique engine (remove \"cliques\": false)");
   if (cliques) check_engine_range(cliques->max_density, grid.max_density, "cliques.max_density");
+  if (cliques && cliques->counts_max_density && cliques->max_density &&
+      *cliques->counts_max_density > *cliques->max_density)
+    fail(ErrorKind::argument, "sweep options: \"cliques.counts_max_density\" (" +
+                                  quoted_value(Json(*cliques->counts_max_density)) +
+                                  ") is beyond \"cliques.max_density\" (" + quoted_value(Json(*cliques->max_density)) + ")");
+  if (cliques) check_engine_range(cliques->counts_max_density, grid.max_density, "cliques.counts_max_density");
   if (homology) check_engine_range(homology->max_density, grid.max_density, "homology.max_density");
   if (curvature) check_engine_range(curvature->max_density, grid.max_density, "curvature.max_density");
 }
@@ -149,6 +204,7 @@ SweepOptions parse_sweep_options(const Json& options) {
   SweepOptions o;
   o.weights = filtration::weight_mode_from_name(r.choice("weights"));
   const double max_density = r.number("max_density");
+  o.range_given = r.has("max_density");
   const Json* grid = r.raw("grid");
   o.grid = grid != nullptr ? parse_grid(*grid, max_density) : parse_grid(Json(0.01), max_density);
   const Json* cliques = r.raw("cliques");
@@ -217,42 +273,59 @@ SweepResult run_sweep(const connectivity::Matrix& matrix, const SweepOptions& op
   result.filtration = filtration::build(matrix.values, options.weights, options.grid.max_density);
   result.grid = filtration::make_grid(result.filtration, options.grid);
 
-  // Each engine runs over its own range (its max_density); the shared filtration is cut
-  // for it, and its curves end there (n/a beyond).
-  // Cliques: exact counts Cl_k and chi (core/cliques). With curvature on over the same
-  // range, the engine also sums each node's Gauss-Bonnet share from its counting tree.
-  std::optional<cliques::GridCounts> curvature_counts;
-  const std::optional<double> curvature_limit =
-      options.curvature ? (options.curvature->max_density ? options.curvature->max_density : options.cliques->max_density)
-                        : std::nullopt;
-  const bool shared_counts = options.curvature && !options.cliques->chi_only &&
-                             curvature_limit.value_or(2.0) == options.cliques->max_density.value_or(2.0);
-  if (options.cliques) {
-    const EngineRange range = engine_range(result.filtration, result.grid, options.cliques->max_density);
-    cliques::Options copt = *options.cliques;
-    copt.node_curvature = shared_counts;
-    result.cliques = cliques::count_on_grid(range.filtration(result.filtration), range.grid, copt, progress);
-    pad_to_grid(*result.cliques, result.grid.size());
+  // Each engine runs over its own range (its max_density, resolved from the defaults
+  // below); the shared filtration is cut for it, and its curves end there (n/a beyond).
+  SweepOptions& run = result.options;
+  resolve_engine_ranges(run, result.nodes);
+  // Cliques: exact chi over the engine's range, every-size counts Cl_k over the shorter
+  // counts range (a chi-only walk covers the rest; core/cliques). With curvature on over
+  // the counts range, the counting walk also sums each node's Gauss-Bonnet share.
+  std::optional<cliques::GridCounts> every_size, curvature_counts;
+  const std::optional<double> curvature_limit = run.curvature ? run.curvature->max_density : std::nullopt;
+  const bool shared_counts = run.curvature && !run.cliques->chi_only &&
+                             curvature_limit.value_or(2.0) == run.cliques->counts_max_density.value_or(2.0);
+  if (run.cliques) {
+    const cliques::Options& c = *run.cliques;
+    const bool split = !c.chi_only && c.counts_max_density.value_or(2.0) != c.max_density.value_or(2.0);
+    if (!c.chi_only) {
+      const EngineRange range = engine_range(result.filtration, result.grid, c.counts_max_density);
+      cliques::Options copt = c;
+      copt.node_curvature = shared_counts;
+      every_size = cliques::count_on_grid(range.filtration(result.filtration), range.grid, copt, progress);
+      pad_to_grid(*every_size, result.grid.size());
+    }
+    if (split || c.chi_only) {
+      const EngineRange range = engine_range(result.filtration, result.grid, c.max_density);
+      cliques::Options copt = c;
+      copt.chi_only = true;
+      copt.node_counts = false;
+      result.cliques = cliques::count_on_grid(range.filtration(result.filtration), range.grid, copt, progress);
+      pad_to_grid(*result.cliques, result.grid.size());
+      if (every_size) join_every_size_counts(*every_size, *result.cliques);
+    } else {
+      result.cliques = std::move(every_size);
+      every_size.reset();
+    }
   }
   // Homology: bars and Betti curves (core/homology). Where the clique engine ran and no
   // simplex lies above the computed dimensions, Euler-Poincare (chi = sum (-1)^k beta_k)
   // must hold exactly: a mismatch is a bug, never output.
-  if (options.homology) {
-    const EngineRange range = engine_range(result.filtration, result.grid, options.homology->max_density);
-    result.homology = homology::compute(range.filtration(result.filtration), range.grid, *options.homology, progress);
+  if (run.homology) {
+    const EngineRange range = engine_range(result.filtration, result.grid, run.homology->max_density);
+    result.homology = homology::compute(range.filtration(result.filtration), range.grid, *run.homology, progress);
     // chi_only counts hold Cl_0 and Cl_1 only, which cannot show that no simplex lies
     // above the Betti dimensions: the check needs every count.
-    if (result.cliques && !options.cliques->chi_only)
+    if (result.cliques)
       result.euler_poincare_checked = homology::check_euler_poincare(
           *result.homology, result.cliques->counts, result.cliques->chi,
-          std::min(result.cliques->complete_points, result.homology->betti.size()));
+          std::min(result.cliques->every_size_points, result.homology->betti.size()));
   }
   // Curvature: node curvature with Gauss-Bonnet checked at every point, Forman-Ricci.
   // Over a shorter range than chi's (or beside chi_only) it gets its own full count.
-  if (options.curvature) {
+  if (run.curvature) {
     const EngineRange range = engine_range(result.filtration, result.grid, curvature_limit);
     if (!shared_counts) {
-      cliques::Options copt = *options.cliques;
+      cliques::Options copt = *run.cliques;
       copt.chi_only = false;
       copt.node_curvature = true;
       copt.node_counts = false;
@@ -260,11 +333,11 @@ SweepResult run_sweep(const connectivity::Matrix& matrix, const SweepOptions& op
       pad_to_grid(*curvature_counts, result.grid.size());
     }
     result.curvature = curvature::on_grid(range.filtration(result.filtration), result.grid,
-                                          shared_counts ? *result.cliques : *curvature_counts, *options.curvature);
+                                          shared_counts ? (every_size ? *every_size : *result.cliques) : *curvature_counts, *run.curvature);
   }
   // Transitions: zeros of chi, Betti crossings and peaks, the random-graph reference.
-  if (options.transitions.enabled && (result.cliques || result.homology))
-    result.transitions = transitions::analyse(transition_curves(result), result.nodes, options.transitions);
+  if (run.transitions.enabled && (result.cliques || result.homology))
+    result.transitions = transitions::analyse(transition_curves(result), result.nodes, run.transitions);
 
   if (progress && progress(1.0)) fail(ErrorKind::cancelled, "sweep cancelled by the progress callback");
   return result;

@@ -161,7 +161,7 @@ class CommandLine(unittest.TestCase):
         for what, bad in cases.items():
             path = self.write_text("bad.tsv", bad, "\t", True)
             out = self.path("never.tsv")
-            r = run_cli("sweep", path, "--out", out)
+            r = run_cli("sweep", path, "--max-density", "1", "--out", out)
             self.assertNotEqual(r.returncode, 0, what)
             self.assertIn(what, r.stderr.lower(), r.stderr)
             self.assertFalse(os.path.exists(out), what)
@@ -191,7 +191,7 @@ class PastTwoToThe127(unittest.TestCase):
             path = os.path.join(tmp, "nested.tsv")
             np.savetxt(path, m, delimiter="\t")
             out = os.path.join(tmp, "nested.json")
-            r = run_cli("sweep", path, "--out", out)
+            r = run_cli("sweep", path, "--max-density", "1", "--out", out)
             self.assertEqual(r.returncode, 0, r.stderr)
             with open(out) as f:
                 doc = json.load(f)

@@ -117,3 +117,52 @@ TEST_CASE("a cancelling progress callback stops the sweep with the cancelled kin
   const auto m = random_matrix(60, 9);
   CHECK(kind_of([&] { pipeline::run_sweep(m, options("{}"), [](double) { return true; }); }) == ErrorKind::cancelled);
 }
+
+TEST_CASE("default engine ranges: above 100 regions chi to 0.5, every clique size to 0.1, Betti to 0.3") {
+  // Reference: the same engines run with every range given (a cut changes nothing before it).
+  const auto m = random_matrix(150, 21);
+  const auto cheap = pipeline::run_sweep(m, options(R"({"grid": 0.02, "homology": {"max_dimension": 1}})"), {});
+  const auto whole = pipeline::run_sweep(
+      m, options(R"({"grid": 0.02, "cliques": {"max_density": 1, "counts_max_density": 1}, "homology": {"max_dimension": 1, "max_density": 1}})"), {});
+  REQUIRE(cheap.options.cliques->max_density == 0.5);
+  REQUIRE(cheap.options.cliques->counts_max_density == 0.1);
+  REQUIRE(cheap.options.homology->max_density == 0.3);
+  std::size_t chi_points = 0, every_size = 0;
+  for (std::size_t g = 0; g < cheap.grid.size(); ++g) {
+    const double rho = cheap.grid[g].density;
+    if (rho <= 0.5 + 1e-12) {
+      REQUIRE(g < cheap.cliques->complete_points);
+      CHECK(cheap.cliques->chi[g] == whole.cliques->chi[g]);  // the chi walk
+      ++chi_points;
+    }
+    if (rho <= 0.1 + 1e-12) {
+      CHECK(cheap.cliques->counts[g] == whole.cliques->counts[g]);  // every size, joined in
+      ++every_size;
+    } else if (g < cheap.cliques->complete_points) {
+      CHECK(cheap.cliques->counts[g].size() == 2);  // Cl_0 and Cl_1 only
+    }
+    if (rho <= 0.3 + 1e-12) CHECK(cheap.homology->betti[g] == whole.homology->betti[g]);
+  }
+  CHECK(cheap.cliques->complete_points == chi_points);
+  CHECK(cheap.cliques->every_size_points == every_size);
+  CHECK(cheap.euler_poincare_checked >= 1);  // only where no simplex lies above the Betti dimensions
+  CHECK(cheap.euler_poincare_checked <= every_size);
+  CHECK(cheap.options.transitions.max_p == 0.5);  // the reference's search stops at chi's range
+}
+
+TEST_CASE("a sweep range that is given, or a network of at most 100 regions, keeps every engine on it") {
+  const auto big = pipeline::run_sweep(random_matrix(150, 22), options(R"({"max_density": 0.3, "grid": 0.05})"), {});
+  CHECK_FALSE(big.options.cliques->max_density.has_value());  // the sweep's own, 0.3
+  CHECK_FALSE(big.options.cliques->counts_max_density.has_value());
+  CHECK(big.cliques->every_size_points == big.grid.size());
+  const auto small = pipeline::run_sweep(random_matrix(100, 23), options(R"({"grid": 0.05})"), {});
+  CHECK_FALSE(small.options.cliques->max_density.has_value());
+  CHECK(small.cliques->every_size_points == small.grid.size());
+  CHECK(small.grid.back().density > 0.45);
+}
+
+TEST_CASE("counts_max_density errors name the key") {
+  CHECK(kind_of([] { options(R"({"cliques": {"max_density": 0.2, "counts_max_density": 0.3}})"); }) == ErrorKind::argument);
+  CHECK(kind_of([] { options(R"({"cliques": {"chi_only": true, "counts_max_density": 0.1}})"); }) == ErrorKind::argument);
+  CHECK(kind_of([] { options(R"({"max_density": 0.2, "cliques": {"counts_max_density": 0.3}})"); }) == ErrorKind::argument);
+}
