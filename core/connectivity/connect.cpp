@@ -250,15 +250,6 @@ Eigen::MatrixXd estimate(const Eigen::MatrixXd& x, const ConnectOptions& o, Json
 
 namespace {
 
-// Steps shared by every band: regression (fit on kept frames) and the censoring mask.
-struct Prepared {
-  Eigen::MatrixXd cleaned;  // scaled by `scale` (per region)
-  Eigen::VectorXd scale;    // powers of two, see power_of_two_scales
-  std::vector<bool> keep;  // empty: no censoring
-  double dt;
-  std::string origin;
-};
-
 // Results that do not change when one region is multiplied by a positive number.
 bool invariant_per_region(const ConnectOptions& o) {
   if (o.clean.unit_variance) return true;
@@ -315,120 +306,151 @@ void require_finite(const Eigen::MatrixXd& r, const series::Series& input, const
                                   "' (values too large, too small or too different in magnitude to be represented)");
 }
 
-Prepared prepare(const series::Series& input, const ConnectOptions& o, const series::CleanInputs& in) {
-  series::validate(input);
-  Prepared p;
-  const Eigen::Index T = input.frames();
-  p.dt = std::isfinite(o.sampling_interval) ? o.sampling_interval : input.sampling_interval;
-  p.origin = input.source.empty() ? std::string("time series") : input.source;
-  if (in.confounds.cols() > 0 && in.confounds.rows() != T)
-    fail(ErrorKind::data, "the confounds table '" + o.clean.regressor_table + "' has " + std::to_string(in.confounds.rows()) +
-                              " rows but " + p.origin + " has " + std::to_string(T) + " frames");
-  if (in.motion.size() > 0 || in.mask.size() > 0)
-    p.keep = series::frames_to_keep(T, in.motion, o.clean.motion_limit, in.mask, o.clean.min_frames);
-  p.scale = power_of_two_scales(input, o);
-  p.cleaned = input.values * p.scale.asDiagonal();
-  if (in.confounds.cols() > 0 || o.clean.trend_order >= 0)
-    p.cleaned = series::regress_out(p.cleaned, in.confounds, o.clean.trend_order, p.keep);
-  for (const auto& b : o.bands)
-    series::check_band(b, o.filter, p.dt, T, b.name.empty() ? std::string("filter") : "band \"" + b.name + "\"");
-  return p;
+std::string origin_of(const series::Series& input) {
+  return input.source.empty() ? std::string("time series") : input.source;
 }
 
-// Band-limited, censored and (if asked) standardised values: what correlation estimators see.
-Eigen::MatrixXd finish_band(const Prepared& p, const series::Band& b, const ConnectOptions& o,
-                            const series::Series& input, bool drop_censored) {
-  Eigen::MatrixXd x = p.cleaned;
-  const std::string where = b.name.empty() ? std::string("filter") : "band \"" + b.name + "\"";
-  if (b.has_low() || b.has_high()) x = series::band_limit(x, b, o.filter, p.dt, where);
-  if (!drop_censored) return x;
-  if (!p.keep.empty()) x = series::keep_rows(x, p.keep);
-  if (o.clean.unit_variance) x = series::standardise(x, input.names);
-  return x;
-}
+std::string band_where(const series::Band& b) { return b.name.empty() ? std::string("filter") : "band \"" + b.name + "\""; }
 
 }  // namespace
 
+// Values after regression (fit on kept frames), scaled by `scale` per region.
+struct ConnectChain::Scaled {
+  Eigen::MatrixXd cleaned;
+  Eigen::VectorXd scale;  // powers of two, see power_of_two_scales
+};
+
+ConnectChain::ConnectChain(const series::Series& like, const ConnectOptions& o, const series::CleanInputs& in)
+    : options_(o), inputs_(in), frames_(like.frames()) {
+  series::validate(like);
+  const Eigen::Index T = like.frames();
+  dt_ = std::isfinite(o.sampling_interval) ? o.sampling_interval : like.sampling_interval;
+  if (in.confounds.cols() > 0 && in.confounds.rows() != T)
+    fail(ErrorKind::data, "the confounds table '" + o.clean.regressor_table + "' has " + std::to_string(in.confounds.rows()) +
+                              " rows but " + origin_of(like) + " has " + std::to_string(T) + " frames");
+  if (in.motion.size() > 0 || in.mask.size() > 0)
+    keep_ = series::frames_to_keep(T, in.motion, o.clean.motion_limit, in.mask, o.clean.min_frames);
+  if (in.confounds.cols() > 0 || o.clean.trend_order >= 0)
+    regression_.emplace(T, in.confounds, o.clean.trend_order, keep_);
+  bands_ = o.bands;
+  if (bands_.empty()) bands_.push_back(series::Band{});  // no band limiting
+  for (const auto& b : bands_) {
+    if (b.has_low() || b.has_high()) filters_.emplace_back(std::in_place, b, o.filter, dt_, T, band_where(b));
+    else filters_.emplace_back();
+  }
+}
+
+ConnectChain::Scaled ConnectChain::clean(const series::Series& input) const {
+  series::validate(input);
+  if (input.frames() != frames_)
+    fail(ErrorKind::internal, "connect chain set up for " + std::to_string(frames_) + " frames, given " +
+                                  std::to_string(input.frames()));
+  Scaled s;
+  s.scale = power_of_two_scales(input, options_);
+  s.cleaned = input.values * s.scale.asDiagonal();
+  if (regression_) s.cleaned = regression_->residuals(s.cleaned);
+  return s;
+}
+
+// Band-limited, censored and (if asked) standardised values: what correlation estimators see.
+Eigen::MatrixXd ConnectChain::band_values(const Scaled& p, std::size_t band, const series::Series& input,
+                                          bool drop_censored) const {
+  Eigen::MatrixXd x = filters_[band] ? filters_[band]->apply(p.cleaned) : p.cleaned;
+  if (!drop_censored) return x;
+  if (!keep_.empty()) x = series::keep_rows(x, keep_);
+  if (options_.clean.unit_variance) x = series::standardise(x, input.names);
+  return x;
+}
+
+BandMatrix ConnectChain::estimate_band(const Scaled& p, std::size_t band, const series::Series& input) const {
+  const ConnectOptions& o = options_;
+  const series::CleanInputs& in = inputs_;
+  const series::Band& b = bands_[band];
+  const Eigen::Index T = input.frames();
+  const std::string origin = origin_of(input);
+
+  Json info = Json::object();
+  info["method"] = o.method_name;
+  info["fisher_z"] = o.fisher_z;
+  info["frames"] = T;
+  info["regions"] = input.regions();
+  if (std::isfinite(dt_)) info["sampling_interval"] = dt_;
+  if (!input.source.empty()) info["source"] = input.source;
+  if (in.confounds.cols() > 0) info["regressors"] = in.confound_names;
+  if (o.clean.trend_order >= 0) info["trend_order"] = o.clean.trend_order;
+  if (o.clean.unit_variance) info["unit_variance"] = true;
+
+  Eigen::MatrixXd x = band_values(p, band, input, !is_phase(o.method));
+  if (b.has_low() || b.has_high()) info["band"] = band_info(b, o.filter);
+
+  Eigen::MatrixXd r;
+  if (is_phase(o.method)) {
+    // The analytic signal needs the whole regular series; censored frames are dropped
+    // from the time averages afterwards.
+    Eigen::MatrixXcd z = series::analytic_signal(x);
+    if (!keep_.empty()) {
+      Eigen::MatrixXcd kept(static_cast<Eigen::Index>(std::count(keep_.begin(), keep_.end(), true)), z.cols());
+      Eigen::Index row = 0;
+      for (Eigen::Index t = 0; t < T; ++t)
+        if (keep_[static_cast<std::size_t>(t)]) kept.row(row++) = z.row(t);
+      z = std::move(kept);
+    }
+    info["frames_used"] = z.rows();
+    const PhaseMeasure m = o.method == Estimator::plv    ? PhaseMeasure::locking_value
+                           : o.method == Estimator::pli  ? PhaseMeasure::lag_index
+                           : o.method == Estimator::wpli ? PhaseMeasure::weighted_lag_index
+                           : o.method == Estimator::aec  ? PhaseMeasure::envelope
+                                                         : PhaseMeasure::envelope_orthogonalised;
+    r = phase_coupling(z, m);
+  } else {
+    for (Eigen::Index j = 0; j < x.cols(); ++j) {
+      // Cleaning leaves rounding noise where it removed everything: compare with the input scale.
+      const double range = x.col(j).maxCoeff() - x.col(j).minCoeff();
+      if (!(range > 1e-12 * p.scale(j) * input.values.col(j).cwiseAbs().maxCoeff()))
+        fail(ErrorKind::data, origin + ": region '" + input.names[static_cast<std::size_t>(j)] +
+                                  "' is constant after cleaning" + (b.name.empty() ? "" : " in band \"" + b.name + "\""));
+    }
+    info["frames_used"] = x.rows();
+    r = estimate(x, o, info);
+  }
+  require_finite(r, input, origin, o, b);
+  if (o.fisher_z) r = fisher_z(r);
+  BandMatrix bm;
+  bm.band = b.name;
+  bm.matrix.values = std::move(r);
+  bm.matrix.names = input.names;
+  bm.matrix.info = std::move(info);
+  return bm;
+}
+
+std::vector<BandMatrix> ConnectChain::run(const series::Series& input) const {
+  const Scaled p = clean(input);
+  std::vector<BandMatrix> out;
+  for (std::size_t b = 0; b < bands_.size(); ++b) out.push_back(estimate_band(p, b, input));
+  return out;
+}
+
+BandMatrix ConnectChain::run_band(const series::Series& input, std::size_t band) const {
+  if (band >= bands_.size())
+    fail(ErrorKind::internal, "band " + std::to_string(band) + " of " + std::to_string(bands_.size()));
+  return estimate_band(clean(input), band, input);
+}
+
 series::Series clean_series(const series::Series& input, const ConnectOptions& o, const series::CleanInputs& in) {
   if (o.bands.size() > 1) fail(ErrorKind::argument, "cleaning gives one series; name at most one band");
-  const Prepared p = prepare(input, o, in);
+  const ConnectChain chain(input, o, in);
+  const ConnectChain::Scaled p = chain.clean(input);
   series::Series out;
-  out.values = finish_band(p, o.bands.empty() ? series::Band{} : o.bands[0], o, input, true);
+  out.values = chain.band_values(p, 0, input, true);
   if (!o.clean.unit_variance) out.values = out.values * p.scale.cwiseInverse().asDiagonal();  // exact: powers of two
   out.names = input.names;
-  out.sampling_interval = p.dt;
+  out.sampling_interval = chain.dt_;
   out.source = input.source;
   return out;
 }
 
 std::vector<BandMatrix> connect(const series::Series& input, const ConnectOptions& o, const series::CleanInputs& in) {
-  const Prepared p = prepare(input, o, in);
-  const Eigen::Index T = input.frames();
-  const double dt = p.dt;
-  const std::string& origin = p.origin;
-  const bool censoring = !p.keep.empty();
-  const std::vector<bool>& keep = p.keep;
-
-  Json base = Json::object();
-  base["method"] = o.method_name;
-  base["fisher_z"] = o.fisher_z;
-  base["frames"] = T;
-  base["regions"] = input.regions();
-  if (std::isfinite(dt)) base["sampling_interval"] = dt;
-  if (!input.source.empty()) base["source"] = input.source;
-  if (in.confounds.cols() > 0) base["regressors"] = in.confound_names;
-  if (o.clean.trend_order >= 0) base["trend_order"] = o.clean.trend_order;
-  if (o.clean.unit_variance) base["unit_variance"] = true;
-
-  std::vector<series::Band> bands = o.bands;
-  if (bands.empty()) bands.push_back(series::Band{});  // no band limiting
-
-  std::vector<BandMatrix> out;
-  for (const auto& b : bands) {
-    Eigen::MatrixXd x = finish_band(p, b, o, input, !is_phase(o.method));
-    Json info = base;
-    if (b.has_low() || b.has_high()) info["band"] = band_info(b, o.filter);
-
-    Eigen::MatrixXd r;
-    if (is_phase(o.method)) {
-      // The analytic signal needs the whole regular series; censored frames are dropped
-      // from the time averages afterwards.
-      Eigen::MatrixXcd z = series::analytic_signal(x);
-      if (censoring) {
-        Eigen::MatrixXcd kept(static_cast<Eigen::Index>(std::count(keep.begin(), keep.end(), true)), z.cols());
-        Eigen::Index row = 0;
-        for (Eigen::Index t = 0; t < T; ++t)
-          if (keep[static_cast<std::size_t>(t)]) kept.row(row++) = z.row(t);
-        z = std::move(kept);
-      }
-      info["frames_used"] = z.rows();
-      const PhaseMeasure m = o.method == Estimator::plv    ? PhaseMeasure::locking_value
-                             : o.method == Estimator::pli  ? PhaseMeasure::lag_index
-                             : o.method == Estimator::wpli ? PhaseMeasure::weighted_lag_index
-                             : o.method == Estimator::aec  ? PhaseMeasure::envelope
-                                                           : PhaseMeasure::envelope_orthogonalised;
-      r = phase_coupling(z, m);
-    } else {
-      for (Eigen::Index j = 0; j < x.cols(); ++j) {
-        // Cleaning leaves rounding noise where it removed everything: compare with the input scale.
-        const double range = x.col(j).maxCoeff() - x.col(j).minCoeff();
-        if (!(range > 1e-12 * p.scale(j) * input.values.col(j).cwiseAbs().maxCoeff()))
-          fail(ErrorKind::data, origin + ": region '" + input.names[static_cast<std::size_t>(j)] +
-                                    "' is constant after cleaning" + (b.name.empty() ? "" : " in band \"" + b.name + "\""));
-      }
-      info["frames_used"] = x.rows();
-      r = estimate(x, o, info);
-    }
-    require_finite(r, input, origin, o, b);
-    if (o.fisher_z) r = fisher_z(r);
-    BandMatrix bm;
-    bm.band = b.name;
-    bm.matrix.values = std::move(r);
-    bm.matrix.names = input.names;
-    bm.matrix.info = std::move(info);
-    out.push_back(std::move(bm));
-  }
-  return out;
+  return ConnectChain(input, o, in).run(input);
 }
 
 }  // namespace critplex::connectivity

@@ -1,9 +1,16 @@
 #include "pipeline/nulls.hpp"
 
 #include <algorithm>
+#include <atomic>
+#include <chrono>
 #include <cmath>
+#include <condition_variable>
 #include <cstdio>
+#include <exception>
 #include <limits>
+#include <memory>
+#include <mutex>
+#include <thread>
 
 #include "base/error.hpp"
 #include "base/random.hpp"
@@ -72,7 +79,7 @@ double first_zero_of(const std::vector<double>& density, const std::vector<doubl
 
 // chi at every grid point of a null filtration whose edges are listed in entry order.
 std::vector<double> chi_of_nested(std::size_t nodes, const simulate::EdgeList& edges,
-                                  const std::vector<filtration::GridPoint>& grid, int threads) {
+                                  const std::vector<filtration::GridPoint>& grid, int threads, const ProgressFn& stop) {
   filtration::Filtration f;
   f.nodes = nodes;
   f.edges.reserve(edges.size());
@@ -81,14 +88,14 @@ std::vector<double> chi_of_nested(std::size_t nodes, const simulate::EdgeList& e
   cliques::Options o;
   o.chi_only = true;
   o.threads = threads;
-  const auto counts = cliques::count_on_grid(f, grid, o, nullptr);
+  const auto counts = cliques::count_on_grid(f, grid, o, stop);
   std::vector<double> chi(grid.size(), std::numeric_limits<double>::quiet_NaN());
   for (std::size_t g = 0; g < counts.complete_points; ++g) chi[g] = to_double(counts.chi[g]);
   return chi;
 }
 
 // chi of the clique complex of a graph given as an edge list.
-int128 chi_of_graph(std::size_t nodes, const simulate::EdgeList& edges, int threads) {
+int128 chi_of_graph(std::size_t nodes, const simulate::EdgeList& edges, int threads, const ProgressFn& stop) {
   filtration::Filtration f;
   f.nodes = nodes;
   f.edges.reserve(edges.size());
@@ -101,7 +108,103 @@ int128 chi_of_graph(std::size_t nodes, const simulate::EdgeList& edges, int thre
   cliques::Options o;
   o.chi_only = true;
   o.threads = threads;
-  return cliques::count_on_grid(f, {end}, o, nullptr).chi.at(0);
+  return cliques::count_on_grid(f, {end}, o, stop).chi.at(0);
+}
+
+// How the draws share the cores: `workers` draws at once, each engine of a draw with
+// `engine_threads` threads (the clique engine's option, 0 = every core). With one worker
+// the draws run on the calling thread and the engine keeps the option's threads.
+struct DrawPlan {
+  std::size_t workers = 1;
+  int engine_threads = 0;
+};
+
+DrawPlan plan_draws(std::size_t count, int threads) {
+  const std::size_t cores = threads > 0 ? static_cast<std::size_t>(threads)
+                                        : std::max(1u, std::thread::hardware_concurrency());
+  DrawPlan plan;
+  plan.workers = std::max<std::size_t>(1, std::min(cores, count));
+  plan.engine_threads = plan.workers == 1 ? threads : static_cast<int>(std::max<std::size_t>(1, cores / plan.workers));
+  return plan;
+}
+
+// One draw: its index, the worker running it (for per-thread workspaces), the engine's
+// threads, and a progress function for the draw's engines (true: stop; they then throw
+// ErrorKind::cancelled).
+using DrawFn = std::function<void(std::size_t draw, std::size_t worker, int engine_threads, const ProgressFn& stop)>;
+
+// Runs draw(j, ...) for every j < count. Every draw writes only its own slots and takes its
+// randomness from its own seed, so the results do not depend on plan.workers. `progress`
+// (fraction of draws done; true cancels) is called only on the calling thread: hosts such
+// as R and MATLAB cannot take callbacks from other threads. A failing draw stops the others;
+// the failure of the lowest-numbered draw is rethrown.
+void run_draws(const DrawPlan& plan, std::size_t count, const DrawFn& draw, const ProgressFn& progress) {
+  const auto fraction = [count](double done) { return done / static_cast<double>(count); };
+  if (plan.workers <= 1) {
+    for (std::size_t j = 0; j < count; ++j) {
+      draw(j, 0, plan.engine_threads,
+           [&](double f) { return progress && progress(fraction(static_cast<double>(j) + std::min(f, 1.0))); });
+      if (progress && progress(fraction(static_cast<double>(j + 1))))
+        fail(ErrorKind::cancelled, "null model cancelled by the progress callback");
+    }
+    return;
+  }
+  std::atomic<std::size_t> next{0};
+  std::size_t finished = 0;  // guarded by mutex
+  std::atomic<bool> stop{false};
+  std::vector<std::exception_ptr> errors(count);
+  std::mutex mutex;
+  std::condition_variable changed;
+  const ProgressFn stopped = [&](double) { return stop.load(); };
+  auto work = [&](std::size_t worker) {
+    while (!stop) {
+      const std::size_t j = next++;
+      if (j >= count) break;
+      try {
+        draw(j, worker, plan.engine_threads, stopped);
+      } catch (...) {
+        errors[j] = std::current_exception();
+        stop = true;
+      }
+      {
+        std::lock_guard<std::mutex> lock(mutex);
+        ++finished;
+      }
+      changed.notify_all();
+    }
+    std::lock_guard<std::mutex> lock(mutex);
+    changed.notify_all();
+  };
+  std::vector<std::thread> pool;
+  bool cancelled = false;
+  try {
+    for (std::size_t w = 0; w < plan.workers; ++w) pool.emplace_back(work, w);
+    std::unique_lock<std::mutex> lock(mutex);
+    while (finished < count && !stop) {
+      changed.wait_for(lock, std::chrono::milliseconds(100));
+      const double done = fraction(static_cast<double>(finished));
+      lock.unlock();  // the callback may take its time; workers must not wait for it
+      if (progress && progress(done)) cancelled = stop = true;
+      lock.lock();
+    }
+  } catch (...) {  // a thread that would not start, or a callback that threw: stop the others first
+    stop = true;
+    for (auto& t : pool) t.join();
+    throw;
+  }
+  for (auto& t : pool) t.join();
+  // A real failure wins over the cancellations it caused in other draws.
+  for (const auto& e : errors) {
+    if (!e) continue;
+    try {
+      std::rethrow_exception(e);
+    } catch (const Error& error) {
+      if (error.kind() != ErrorKind::cancelled) throw;
+    }
+  }
+  if (cancelled || (progress && progress(1.0))) fail(ErrorKind::cancelled, "null model cancelled by the progress callback");
+  for (const auto& e : errors)
+    if (e) std::rethrow_exception(e);
 }
 
 std::vector<double> finite_values(const std::vector<double>& x) {
@@ -183,13 +286,11 @@ NullResult run_null_model(const NullSpec& spec, const series::Series& series,
   NullResult result;
   result.spec = spec;
   result.observed_first = first_zero_of(density, observed.chi_curve());
-  std::vector<std::vector<double>> curves;  // [draw][grid point] chi of the null
-
-  auto report = [&](std::size_t done) {
-    if (progress && progress(static_cast<double>(done) / static_cast<double>(spec.count)))
-      fail(ErrorKind::cancelled, "null model cancelled by the progress callback");
-  };
-  const int threads = observed.options.cliques ? observed.options.cliques->threads : 0;
+  const auto count = static_cast<std::size_t>(std::max(spec.count, 0));
+  std::vector<std::vector<double>> curves(count);  // [draw][grid point] chi of the null
+  result.first_zeros.assign(count, std::numeric_limits<double>::quiet_NaN());
+  std::vector<std::size_t> incomplete(count, 0);     // rewirings with too few legal swaps, per draw
+  const DrawPlan plan = plan_draws(count, observed.options.cliques ? observed.options.cliques->threads : 0);
 
   if (spec.model == "rewire_nested") {
     // One nested rewiring per draw (layers between grid points), chi in one pass.
@@ -197,57 +298,67 @@ NullResult run_null_model(const NullSpec& spec, const series::Series& series,
     std::vector<filtration::GridPoint> grid;
     std::vector<std::size_t> ends;
     for (const auto& p : observed.grid) {
-      if (limit && p.density > *limit + 1e-12) break;
+      if (p.density > limit.value_or(std::numeric_limits<double>::infinity()) + 1e-12) break;
       grid.push_back(p);
       if (ends.empty() || p.edges > ends.back()) ends.push_back(p.edges);
     }
-    for (int j = 0; j < spec.count; ++j) {
+    run_draws(plan, count, [&](std::size_t j, std::size_t, int threads, const ProgressFn& stop) {
       simulate::RewireOptions ro;
       ro.swaps_per_edge = spec.rewire_swaps_per_edge;
-      ro.seed = draw_seed(spec.seed, static_cast<std::uint64_t>(j));
+      ro.seed = draw_seed(spec.seed, j);
       const auto rewired = simulate::rewire_nested(observed.filtration, ends, ro);
-      if (!rewired.complete) ++result.incomplete_rewirings;
-      std::vector<double> chi = chi_of_nested(observed.nodes, rewired.edges, grid, threads);
+      if (!rewired.complete) ++incomplete[j];
+      std::vector<double> chi = chi_of_nested(observed.nodes, rewired.edges, grid, threads, stop);
       chi.resize(points, std::numeric_limits<double>::quiet_NaN());
-      result.first_zeros.push_back(first_zero_of(density, chi));
-      curves.push_back(std::move(chi));
-      report(static_cast<std::size_t>(j) + 1);
-    }
+      result.first_zeros[j] = first_zero_of(density, chi);
+      curves[j] = std::move(chi);
+    }, progress);
   } else if (spec.model == "rewire") {
     // Degree-preserving rewiring of the graph at each grid density, chi of each.
-    for (int j = 0; j < spec.count; ++j) {
+    run_draws(plan, count, [&](std::size_t j, std::size_t, int threads, const ProgressFn& stop) {
       std::vector<double> chi(points, 0.0);
       for (std::size_t g = 0; g < points; ++g) {
         simulate::RewireOptions ro;
         ro.swaps_per_edge = spec.rewire_swaps_per_edge;
-        ro.seed = draw_seed(spec.seed, static_cast<std::uint64_t>(j) * 100003u + g);
+        ro.seed = draw_seed(spec.seed, j * 100003u + g);
         const auto rewired = simulate::rewire_prefix(observed.filtration, observed.grid[g].edges, ro);
-        if (!rewired.complete) ++result.incomplete_rewirings;
-        chi[g] = to_double(chi_of_graph(observed.nodes, rewired.edges, threads));
+        if (!rewired.complete) ++incomplete[j];
+        chi[g] = to_double(chi_of_graph(observed.nodes, rewired.edges, threads, stop));
       }
-      result.first_zeros.push_back(first_zero_of(density, chi));
-      curves.push_back(std::move(chi));
-      report(static_cast<std::size_t>(j) + 1);
-    }
+      result.first_zeros[j] = first_zero_of(density, chi);
+      curves[j] = std::move(chi);
+    }, progress);
   } else {
-    // Surrogate time series through the same cleaning, filtering and estimator.
+    // Surrogate time series through the same cleaning, filtering and estimator. What does
+    // not change between draws is made once: the spectra of the series (surrogates); the
+    // censoring mask, confound design with its factorisation and the filters (the connect
+    // chain); FFT plans once per worker.
     simulate::SurrogateOptions so;
     so.method = simulate::surrogate_method_from_name(spec.model);
     so.iaaft_iterations = spec.iaaft_iterations;
+    const simulate::SurrogateBasis basis(series.values, so);
+    const connectivity::ConnectChain chain(series, connect, inputs);
+    if (band_index >= chain.bands()) fail(ErrorKind::internal, "null model: no band " + std::to_string(band_index));
+    std::vector<std::unique_ptr<series::FftPlans>> plans;
+    for (std::size_t w = 0; w < plan.workers; ++w) plans.push_back(std::make_unique<series::FftPlans>(basis.frames()));
     const SweepOptions null_options = null_sweep_options(observed.options, observed.nodes, spec.max_density);
-    for (int j = 0; j < spec.count; ++j) {
-      so.seed = draw_seed(spec.seed, static_cast<std::uint64_t>(j));
-      series::Series surrogate = series;
-      surrogate.values = simulate::make_surrogate(series.values, so).values;
-      auto matrices = connectivity::connect(surrogate, connect, inputs);
-      const SweepResult sweep = run_sweep(matrices.at(band_index).matrix, null_options, nullptr);
+    run_draws(plan, count, [&](std::size_t j, std::size_t worker, int threads, const ProgressFn& stop) {
+      series::Series surrogate;
+      surrogate.values = basis.draw(draw_seed(spec.seed, j), *plans[worker]).values;
+      surrogate.names = series.names;
+      surrogate.sampling_interval = series.sampling_interval;
+      surrogate.source = series.source;
+      const connectivity::Matrix matrix = chain.run_band(surrogate, band_index).matrix;
+      SweepOptions o = null_options;
+      o.cliques->threads = threads;
+      const SweepResult sweep = run_sweep(matrix, o, stop);
       std::vector<double> chi = sweep.chi_curve();
-      result.first_zeros.push_back(first_zero_of(sweep.densities(), chi));
+      result.first_zeros[j] = first_zero_of(sweep.densities(), chi);
       chi.resize(points, std::numeric_limits<double>::quiet_NaN());
-      curves.push_back(std::move(chi));
-      report(static_cast<std::size_t>(j) + 1);
-    }
+      curves[j] = std::move(chi);
+    }, progress);
   }
+  for (std::size_t k : incomplete) result.incomplete_rewirings += k;
 
   // Mean null chi curve on the subject's grid.
   result.mean_chi.assign(points, std::numeric_limits<double>::quiet_NaN());

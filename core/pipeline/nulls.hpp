@@ -58,6 +58,9 @@ struct NullResult {
 
 // `series` is the subject's raw series (surrogates are made from it and then cleaned,
 // filtered and estimated exactly like the original); `band_index` picks the band.
+// Draws run side by side over the clique engine's threads of `observed` (each draw's count
+// then on one thread); each has its own seed and result slot, so the result does not
+// depend on the thread count. `progress` is called only on the calling thread.
 NullResult run_null_model(const NullSpec& spec, const series::Series& series,
                           const connectivity::ConnectOptions& connect, const series::CleanInputs& inputs,
                           std::size_t band_index, const SweepResult& observed, const ProgressFn& progress);

@@ -8,25 +8,25 @@
 
 namespace critplex::series {
 
-Eigen::MatrixXd regress_out(const Eigen::MatrixXd& values, const Eigen::MatrixXd& confounds, int trend_order,
-                            const std::vector<bool>& keep) {
-  const Eigen::Index T = values.rows();
+Regression::Regression(Eigen::Index frames, const Eigen::MatrixXd& confounds, int trend_order,
+                       const std::vector<bool>& keep)
+    : keep_(keep) {
+  const Eigen::Index T = frames;
   if (confounds.rows() != T && confounds.cols() > 0)
     fail(ErrorKind::data, "the confounds have " + std::to_string(confounds.rows()) + " rows but the series has " +
                               std::to_string(T) + " frames");
   const Eigen::Index trend = trend_order > 0 ? trend_order : 0;
   const Eigen::Index p = 1 + confounds.cols() + trend;
-  Eigen::MatrixXd design(T, p);
-  design.col(0).setOnes();
-  if (confounds.cols() > 0) design.middleCols(1, confounds.cols()) = confounds;
+  design_.resize(T, p);
+  design_.col(0).setOnes();
+  if (confounds.cols() > 0) design_.middleCols(1, confounds.cols()) = confounds;
   // Trend terms on a centred, scaled time axis in [-1, 1] keep the columns well conditioned.
   for (Eigen::Index k = 1; k <= trend; ++k)
     for (Eigen::Index t = 0; t < T; ++t) {
       const double u = T > 1 ? 2.0 * static_cast<double>(t) / static_cast<double>(T - 1) - 1.0 : 0.0;
-      design(t, confounds.cols() + k) = std::pow(u, static_cast<double>(k));
+      design_(t, confounds.cols() + k) = std::pow(u, static_cast<double>(k));
     }
-  const Eigen::MatrixXd fit_design = keep.empty() ? design : keep_rows(design, keep);
-  const Eigen::MatrixXd fit_values = keep.empty() ? values : keep_rows(values, keep);
+  const Eigen::MatrixXd fit_design = keep.empty() ? design_ : keep_rows(design_, keep);
   if (fit_design.rows() <= p)
     fail(ErrorKind::data, "confound regression has " + std::to_string(p) + " columns (intercept, " +
                               std::to_string(confounds.cols()) + " confounds, " + std::to_string(trend) +
@@ -39,13 +39,27 @@ Eigen::MatrixXd regress_out(const Eigen::MatrixXd& values, const Eigen::MatrixXd
                               "drop duplicated or constant confound columns");
   // beta = P R^-1 Q^T y with a thin Q: two matrix products instead of applying every
   // Householder reflection to every region, and still no squared condition number.
-  const Eigen::MatrixXd q = qr.householderQ() * Eigen::MatrixXd::Identity(fit_design.rows(), p);
-  const Eigen::MatrixXd qty = q.transpose() * fit_values;
-  const Eigen::MatrixXd z = qr.matrixR().topLeftCorner(p, p).triangularView<Eigen::Upper>().solve(qty);
-  const Eigen::MatrixXd beta = qr.colsPermutation() * z;
+  q_ = qr.householderQ() * Eigen::MatrixXd::Identity(fit_design.rows(), p);
+  r_ = qr.matrixR().topLeftCorner(p, p).triangularView<Eigen::Upper>();
+  columns_ = qr.colsPermutation();
+}
+
+Eigen::MatrixXd Regression::residuals(const Eigen::MatrixXd& values) const {
+  if (values.rows() != design_.rows())
+    fail(ErrorKind::internal, "regression set up for " + std::to_string(design_.rows()) + " frames, given " +
+                                  std::to_string(values.rows()));
+  const Eigen::MatrixXd fit_values = keep_.empty() ? values : keep_rows(values, keep_);
+  const Eigen::MatrixXd qty = q_.transpose() * fit_values;
+  const Eigen::MatrixXd z = r_.triangularView<Eigen::Upper>().solve(qty);
+  const Eigen::MatrixXd beta = columns_ * z;
   Eigen::MatrixXd residuals = values;
-  residuals.noalias() -= design * beta;
+  residuals.noalias() -= design_ * beta;
   return residuals;
+}
+
+Eigen::MatrixXd regress_out(const Eigen::MatrixXd& values, const Eigen::MatrixXd& confounds, int trend_order,
+                            const std::vector<bool>& keep) {
+  return Regression(values.rows(), confounds, trend_order, keep).residuals(values);
 }
 
 std::vector<bool> frames_to_keep(Eigen::Index frames, const Eigen::VectorXd& motion, double limit,

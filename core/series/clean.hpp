@@ -44,6 +44,22 @@ struct CleanInputs {
 Eigen::MatrixXd regress_out(const Eigen::MatrixXd& values, const Eigen::MatrixXd& confounds, int trend_order,
                             const std::vector<bool>& keep);
 
+// The same fit set up once for series of `frames` frames: the design and its QR
+// factorisation, reused for every series given to residuals() (null surrogates of one
+// subject). regress_out(v, ...) is Regression(v.rows(), ...).residuals(v), bit for bit.
+class Regression {
+ public:
+  Regression(Eigen::Index frames, const Eigen::MatrixXd& confounds, int trend_order, const std::vector<bool>& keep);
+  Eigen::MatrixXd residuals(const Eigen::MatrixXd& values) const;  // values: frames x N
+
+ private:
+  Eigen::MatrixXd design_;      // frames x p
+  Eigen::MatrixXd q_;           // thin Q of the kept rows' design
+  Eigen::MatrixXd r_;           // p x p upper triangle
+  Eigen::PermutationMatrix<Eigen::Dynamic, Eigen::Dynamic> columns_;
+  std::vector<bool> keep_;
+};
+
 // Frames to keep: motion[t] > limit is censored (NaN motion counts as 0, the first frame
 // of a framewise-displacement column being undefined), then a mask (1 keep, 0 drop) if
 // given. Errors when fewer than min_frames remain. Empty inputs mean "keep everything".

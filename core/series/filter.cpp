@@ -270,12 +270,27 @@ void check_band(const Band& band, const FilterOptions& options, double dt, Eigen
   }
 }
 
+BandFilter::BandFilter(const Band& band, const FilterOptions& options, double dt, Eigen::Index frames,
+                       const std::string& where)
+    : band_(band), options_(options), dt_(dt), frames_(frames) {
+  check_band(band, options, dt, frames, where);
+  if (options.design == FilterDesign::butterworth) {
+    sections_ = butterworth(band, options.order, dt);
+    padding_ = default_padding(sections_);
+  }
+}
+
+Eigen::MatrixXd BandFilter::apply(const Eigen::MatrixXd& values) const {
+  if (values.rows() != frames_)
+    fail(ErrorKind::internal, "band filter set up for " + std::to_string(frames_) + " frames, given " +
+                                  std::to_string(values.rows()));
+  if (options_.design == FilterDesign::fft_mask) return fft_mask(values, band_, dt_);
+  return filter_forward_backward(sections_, values, padding_);
+}
+
 Eigen::MatrixXd band_limit(const Eigen::MatrixXd& values, const Band& band, const FilterOptions& options, double dt,
                            const std::string& where) {
-  check_band(band, options, dt, values.rows(), where);
-  if (options.design == FilterDesign::fft_mask) return fft_mask(values, band, dt);
-  const Sections sos = butterworth(band, options.order, dt);
-  return filter_forward_backward(sos, values, default_padding(sos));
+  return BandFilter(band, options, dt, values.rows(), where).apply(values);
 }
 
 }  // namespace critplex::series

@@ -59,4 +59,21 @@ void check_band(const Band& band, const FilterOptions& options, double dt, Eigen
 Eigen::MatrixXd band_limit(const Eigen::MatrixXd& values, const Band& band, const FilterOptions& options, double dt,
                            const std::string& where);
 
+// band_limit set up once for series of `frames` frames (the band checked, the Butterworth
+// sections designed), then applied to any number of them: band_limit(v, ...) is
+// BandFilter(..., v.rows(), ...).apply(v), bit for bit.
+class BandFilter {
+ public:
+  BandFilter(const Band& band, const FilterOptions& options, double dt, Eigen::Index frames, const std::string& where);
+  Eigen::MatrixXd apply(const Eigen::MatrixXd& values) const;
+
+ private:
+  Band band_;
+  FilterOptions options_;
+  double dt_;
+  Eigen::Index frames_;
+  Sections sections_;  // Butterworth only
+  Eigen::Index padding_ = 0;
+};
+
 }  // namespace critplex::series

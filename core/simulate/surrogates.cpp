@@ -49,7 +49,8 @@ void ranks_of(const std::vector<double>& x, std::vector<std::size_t>& order, std
 
 }  // namespace
 
-SurrogateResult make_surrogate(const Eigen::MatrixXd& values, const SurrogateOptions& options) {
+SurrogateBasis::SurrogateBasis(const Eigen::MatrixXd& values, const SurrogateOptions& options)
+    : values_(values), options_(options) {
   const auto frames = static_cast<std::size_t>(values.rows());
   const auto regions = static_cast<std::size_t>(values.cols());
   if (frames < 3) fail(ErrorKind::data, "surrogates need at least 3 time points, got " + std::to_string(frames));
@@ -61,43 +62,60 @@ SurrogateResult make_surrogate(const Eigen::MatrixXd& values, const SurrogateOpt
                                   std::to_string(t + 1));
   if (options.iaaft_iterations < 1) fail(ErrorKind::argument, "iaaft_iterations must be at least 1");
 
-  Random random(options.seed);
+  // The spectra are what each draw would compute first; every draw only turns phases.
   series::FftPlans plans(static_cast<Eigen::Index>(frames));
+  const std::size_t bins = frames / 2 + 1;
+  spectra_.resize(regions * bins);
+  for (std::size_t j = 0; j < regions; ++j)
+    plans.forward(values_.col(static_cast<Eigen::Index>(j)).data(), spectra_.data() + j * bins);
+  if (options.method != SurrogateMethod::iaaft) return;
+  amplitudes_.resize(regions * bins);
+  for (std::size_t i = 0; i < spectra_.size(); ++i) amplitudes_[i] = std::abs(spectra_[i]);
+  sorted_.resize(regions * frames);
+  for (std::size_t j = 0; j < regions; ++j) {
+    const double* v = values_.col(static_cast<Eigen::Index>(j)).data();
+    std::copy(v, v + frames, sorted_.begin() + static_cast<std::ptrdiff_t>(j * frames));
+    std::sort(sorted_.begin() + static_cast<std::ptrdiff_t>(j * frames),
+              sorted_.begin() + static_cast<std::ptrdiff_t>((j + 1) * frames));
+  }
+}
+
+SurrogateResult SurrogateBasis::draw(std::uint64_t seed, series::FftPlans& plans) const {
+  const auto frames = static_cast<std::size_t>(values_.rows());
+  const auto regions = static_cast<std::size_t>(values_.cols());
+  if (plans.length() != values_.rows()) fail(ErrorKind::internal, "surrogate draw: FFT plans of the wrong length");
+  Random random(seed);
   const std::size_t bins = frames / 2 + 1, free_end = last_free_bin(frames) + 1;
   SurrogateResult result;
-  result.values.resize(values.rows(), values.cols());
+  result.values.resize(values_.rows(), values_.cols());
   Spectrum spectrum(bins);
   std::vector<std::complex<double>> rotation(free_end, 1.0);
-  std::vector<double> column(frames), out(frames);
 
-  if (options.method != SurrogateMethod::iaaft) {
-    const bool shared = options.method == SurrogateMethod::phase_multivariate;
+  if (options_.method != SurrogateMethod::iaaft) {
+    const bool shared = options_.method == SurrogateMethod::phase_multivariate;
     if (shared) random_phases(random, rotation);
     for (std::size_t j = 0; j < regions; ++j) {
       if (!shared) random_phases(random, rotation);
-      for (std::size_t t = 0; t < frames; ++t) column[t] = values(static_cast<Eigen::Index>(t), static_cast<Eigen::Index>(j));
-      plans.forward(column.data(), spectrum.data());
+      const std::complex<double>* original = spectra_.data() + j * bins;
+      std::copy(original, original + bins, spectrum.begin());
       for (std::size_t k = 1; k < free_end; ++k) spectrum[k] *= rotation[k];
-      plans.backward(spectrum.data(), out.data());
-      for (std::size_t t = 0; t < frames; ++t) result.values(static_cast<Eigen::Index>(t), static_cast<Eigen::Index>(j)) = out[t];
+      plans.backward(spectrum.data(), result.values.col(static_cast<Eigen::Index>(j)).data());
     }
     return result;
   }
 
   // IAAFT, region by region.
-  std::vector<double> amplitude(bins), sorted(frames), current(frames);
+  std::vector<double> current(frames), out(frames);
   std::vector<std::size_t> order(frames), rank(frames), previous_rank(frames);
   for (std::size_t j = 0; j < regions; ++j) {
-    for (std::size_t t = 0; t < frames; ++t) column[t] = values(static_cast<Eigen::Index>(t), static_cast<Eigen::Index>(j));
-    plans.forward(column.data(), spectrum.data());
-    for (std::size_t k = 0; k < bins; ++k) amplitude[k] = std::abs(spectrum[k]);
-    sorted = column;
-    std::sort(sorted.begin(), sorted.end());
-    current = column;
+    const double* amplitude = amplitudes_.data() + j * bins;
+    const double* sorted = sorted_.data() + j * frames;
+    const double* column = values_.col(static_cast<Eigen::Index>(j)).data();
+    current.assign(column, column + frames);
     random.shuffle(current);  // start from a random permutation of the values
     ranks_of(current, order, previous_rank);
     int used = 0;
-    for (int iteration = 0; iteration < options.iaaft_iterations; ++iteration) {
+    for (int iteration = 0; iteration < options_.iaaft_iterations; ++iteration) {
       ++used;
       // Impose the original amplitudes, keep the current phases.
       plans.forward(current.data(), spectrum.data());
@@ -113,9 +131,15 @@ SurrogateResult make_surrogate(const Eigen::MatrixXd& values, const SurrogateOpt
       previous_rank = rank;
     }
     result.iaaft_iterations_used = std::max(result.iaaft_iterations_used, used);
-    for (std::size_t t = 0; t < frames; ++t) result.values(static_cast<Eigen::Index>(t), static_cast<Eigen::Index>(j)) = current[t];
+    std::copy(current.begin(), current.end(), result.values.col(static_cast<Eigen::Index>(j)).data());
   }
   return result;
+}
+
+SurrogateResult make_surrogate(const Eigen::MatrixXd& values, const SurrogateOptions& options) {
+  const SurrogateBasis basis(values, options);
+  series::FftPlans plans(values.rows());
+  return basis.draw(options.seed, plans);
 }
 
 const OptionSection& surrogate_option_section() {

@@ -15,10 +15,13 @@
 
 #include <Eigen/Dense>
 
+#include <complex>
 #include <cstdint>
 #include <string>
+#include <vector>
 
 #include "base/option_schema.hpp"
+#include "series/fft.hpp"
 
 namespace critplex::simulate {
 
@@ -39,6 +42,24 @@ struct SurrogateResult {
 
 // values: T >= 3 frames x N >= 1 regions, finite.
 SurrogateResult make_surrogate(const Eigen::MatrixXd& values, const SurrogateOptions& options);
+
+// What every surrogate of one series shares, whatever the seed: the checked input, each
+// region's spectrum and, for IAAFT, its amplitudes and sorted values. Made once for many
+// draws (null models) and then only read, so draws may run on several threads at once.
+// make_surrogate is exactly SurrogateBasis(values, options).draw(options.seed, plans).
+class SurrogateBasis {
+ public:
+  SurrogateBasis(const Eigen::MatrixXd& values, const SurrogateOptions& options);  // seed unused
+  Eigen::Index frames() const { return values_.rows(); }
+  // One surrogate for `seed`. `plans` (length frames()) belong to the calling thread.
+  SurrogateResult draw(std::uint64_t seed, series::FftPlans& plans) const;
+
+ private:
+  Eigen::MatrixXd values_;
+  SurrogateOptions options_;
+  std::vector<std::complex<double>> spectra_;  // region j's bins at [j * bins, (j + 1) * bins)
+  std::vector<double> amplitudes_, sorted_;    // IAAFT: |spectrum| per bin, sorted values per region
+};
 
 // The options of cpx_surrogate ({"method", "seed", "iaaft_iterations"}) and their table.
 const OptionSection& surrogate_option_section();

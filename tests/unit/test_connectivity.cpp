@@ -111,3 +111,37 @@ TEST_CASE("Connect runs each band and the same input gives the same result") {
   CHECK(a[1].matrix.values == b[1].matrix.values);
   CHECK(a[0].matrix.info["band"]["low_hz"] == 8.0);
 }
+
+TEST_CASE("A connect chain set up once gives, for any series of that shape, what connect gives") {
+  // The reference is connect() on each series; the chain reuses the censoring mask, the
+  // confound fit and the filter design, which must change no bit of any band's matrix.
+  const Eigen::Index T = 400, N = 6;
+  series::Series a, b;
+  a.values = noise(T, N, 1);
+  b.values = noise(T, N, 2);
+  a.names = b.names = series::default_names(N);
+  a.sampling_interval = b.sampling_interval = 0.5;
+  series::CleanInputs in;
+  in.confounds = noise(T, 2, 3);
+  in.confound_names = {"c1", "c2"};
+  in.mask = Eigen::VectorXd::Ones(T);
+  for (Eigen::Index t = 0; t < T; t += 37) in.mask(t) = 0.0;
+  for (const char* text : {R"({"method": "ledoit_wolf", "clean": {"trend_order": 2, "unit_variance": true},
+                               "bands": {"slow": [0.02, 0.1], "fast": [0.1, 0.4]}})",
+                           R"({"method": "plv", "clean": {"trend_order": 1},
+                               "filter": {"design": "fft_mask", "low_hz": 0.05, "high_hz": 0.3}})",
+                           R"({"method": "pearson", "filter": {"high_hz": 0.3, "order": 2}})"}) {
+    INFO(text);
+    const auto o = parse_connect_options(nlohmann::json::parse(text), "opts");
+    const ConnectChain chain(a, o, in);
+    const auto direct = connect(b, o, in);
+    const auto chained = chain.run(b);
+    REQUIRE(chained.size() == direct.size());
+    REQUIRE(chain.bands() == direct.size());
+    for (std::size_t k = 0; k < direct.size(); ++k) {
+      CHECK(chained[k].matrix.values == direct[k].matrix.values);
+      CHECK(chained[k].matrix.info == direct[k].matrix.info);
+      CHECK(chain.run_band(b, k).matrix.values == direct[k].matrix.values);
+    }
+  }
+}

@@ -108,6 +108,30 @@ TEST_CASE("surrogates keep the mean and are seeded", "[simulate]") {
   CHECK_ERROR_KIND_WITH(make_surrogate(bad, {}), ErrorKind::data, Catch::Contains("region 2") && Catch::Contains("time point 6"));
 }
 
+TEST_CASE("one surrogate basis draws exactly what make_surrogate makes, on any plans", "[simulate]") {
+  // Null models make the basis once and draw from it on several threads; each draw must
+  // equal a fresh make_surrogate of the same seed bit for bit, whichever plans it uses.
+  Eigen::MatrixXd x(101, 4);  // odd length: no Nyquist bin
+  for (int t = 0; t < 101; ++t)
+    for (int j = 0; j < 4; ++j) x(t, j) = std::cos(0.21 * t * (j + 1)) + 0.05 * t * t / 101.0 - j;
+  for (const char* name : {"phase_multivariate", "phase_independent", "iaaft"}) {
+    INFO(name);
+    SurrogateOptions o;
+    o.method = surrogate_method_from_name(name);
+    o.iaaft_iterations = 30;
+    const SurrogateBasis basis(x, o);
+    series::FftPlans first(101), second(101);
+    for (std::uint64_t seed : {5u, 6u, 5u}) {
+      o.seed = seed;
+      const auto fresh = make_surrogate(x, o);
+      const auto a = basis.draw(seed, first), b = basis.draw(seed, second);
+      CHECK(a.values == fresh.values);
+      CHECK(b.values == fresh.values);
+      CHECK(a.iaaft_iterations_used == fresh.iaaft_iterations_used);
+    }
+  }
+}
+
 TEST_CASE("demo cohort: manifest, shapes, determinism and stronger coupling when deprived", "[simulate]") {
   CohortModel m;
   m.regions = 21;
