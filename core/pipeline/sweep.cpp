@@ -4,6 +4,7 @@
 #include <limits>
 
 #include "base/error.hpp"
+#include "curvature/static_count.hpp"
 
 namespace critplex::pipeline {
 
@@ -142,6 +143,12 @@ void SweepOptions::validate() const {
   if (cliques) check_engine_range(cliques->max_density, grid.max_density, "cliques.max_density");
   if (homology) check_engine_range(homology->max_density, grid.max_density, "homology.max_density");
   if (curvature) check_engine_range(curvature->max_density, grid.max_density, "curvature.max_density");
+  if (curvature)
+    for (double rho : curvature->at_densities)
+      if (rho > std::min(grid.max_density, curvature->max_density.value_or(1.0)) + 1e-12)
+        fail(ErrorKind::argument, "sweep options: \"curvature.at\" density " + quoted_value(Json(rho)) +
+                                      " is beyond the curvature range (max_density " +
+                                      quoted_value(Json(std::min(grid.max_density, curvature->max_density.value_or(1.0)))) + ")");
 }
 
 SweepOptions parse_sweep_options(const Json& options) {
@@ -225,7 +232,8 @@ SweepResult run_sweep(const connectivity::Matrix& matrix, const SweepOptions& op
   const std::optional<double> curvature_limit =
       options.curvature ? (options.curvature->max_density ? options.curvature->max_density : options.cliques->max_density)
                         : std::nullopt;
-  const bool shared_counts = options.curvature && !options.cliques->chi_only &&
+  const bool curvature_on_grid = options.curvature && options.curvature->at == curvature::Options::At::grid;
+  const bool shared_counts = curvature_on_grid && !options.cliques->chi_only &&
                              curvature_limit.value_or(2.0) == options.cliques->max_density.value_or(2.0);
   if (options.cliques) {
     const EngineRange range = engine_range(result.filtration, result.grid, options.cliques->max_density);
@@ -249,7 +257,22 @@ SweepResult run_sweep(const connectivity::Matrix& matrix, const SweepOptions& op
   }
   // Curvature: node curvature with Gauss-Bonnet checked at every point, Forman-Ricci.
   // Over a shorter range than chi's (or beside chi_only) it gets its own full count.
-  if (options.curvature) {
+  // At chosen points only (curvature.at), one static count of the graph per point.
+  if (options.curvature && !curvature_on_grid) {
+    const EngineRange range = engine_range(result.filtration, result.grid, curvature_limit);
+    std::vector<char> in_range(result.grid.size(), 0);
+    for (std::size_t g = 0; g < result.grid.size(); ++g)
+      in_range[g] = range.grid.size() == result.grid.size() || result.grid[g].density <= *curvature_limit + 1e-12;
+    const curvature::Selection selection =
+        options.curvature->at == curvature::Options::At::list
+            ? curvature::select_listed(result.filtration, result.grid, in_range, options.curvature->at_densities)
+            : curvature::select_transitions(result.grid, in_range, result.chi_curve(), options.curvature->window);
+    const curvature::StaticCounts counts = curvature::count_selected(
+        result.filtration, result.grid, selection, *options.cliques, result.cliques ? &*result.cliques : nullptr, progress);
+    result.curvature = curvature::on_grid(range.filtration(result.filtration), result.grid, counts.sources, *options.curvature);
+    result.curvature->selection = selection;
+    result.curvature->stopped = counts.stopped;
+  } else if (options.curvature) {
     const EngineRange range = engine_range(result.filtration, result.grid, curvature_limit);
     if (!shared_counts) {
       cliques::Options copt = *options.cliques;
