@@ -37,6 +37,10 @@ struct Options {
   At at = At::grid;
   std::vector<double> at_densities;  // for At::list, as given
   std::size_t window = 2;            // for At::transitions
+  // How the chosen points are counted ("count"): one static count each, one walk to the
+  // last of them, or (auto) whichever a measured cost rule expects to be cheaper.
+  enum class Count { automatic, static_graph, walk };
+  Count count = Count::automatic;
 };
 const char* at_name(Options::At at);
 // The "curvature" section of the sweep options; its table: option_section().
@@ -73,6 +77,7 @@ struct Selection {
   };
   std::vector<Zero> zeros;
   std::size_t window = 0;
+  bool walk = false;  // counted by one walk to the last chosen point, not static counts
 };
 
 // Where a grid point's node curvature sums come from: point `index` of `counts` (the

@@ -36,7 +36,12 @@ const OptionSection& option_section() {
        {.key = "window", .type = "integer", .default_value = 2, .min = 0, .max = 1000000,
         .meaning = "with \"at\": \"transitions\", grid points kept on either side of the two points that "
                    "bracket a zero of chi (2 gives the shape of the curvature moments across the zero at a "
-                   "few static counts per zero)"}}};
+                   "few static counts per zero)"},
+       {.key = "count", .type = "choice", .default_value = "auto", .choices = {"auto", "static", "walk"},
+        .meaning = "with a list or \"transitions\": how the chosen points are counted: \"static\" = one count of "
+                   "each point's graph in a degeneracy order, \"walk\" = one walk along the filtration to the last "
+                   "chosen point, \"auto\" = static unless the chosen points crowd near the last one "
+                   "(docs/methods.md, \"Curvature at chosen points\")"}}};
   return section;
 }
 
@@ -90,7 +95,12 @@ Options parse_options(const Json& section) {
   }
   const bool window_given = r.has("window");
   o.window = static_cast<std::size_t>(r.integer("window"));
+  const std::string count = r.choice("count");
+  o.count = count == "static" ? Options::Count::static_graph : count == "walk" ? Options::Count::walk : Options::Count::automatic;
+  const bool count_given = r.has("count");
   r.finish();
+  if (count_given && o.at == Options::At::grid)
+    fail(ErrorKind::argument, r.where() + ": \"curvature.count\" applies only with a list or \"transitions\" in \"curvature.at\"");
   if (window_given && o.at != Options::At::transitions)
     fail(ErrorKind::argument, r.where() + ": \"curvature.window\" applies only with \"curvature.at\": \"transitions\"");
   for (const auto* range : {&o.node_range, &o.forman_range})

@@ -130,31 +130,62 @@ cliques::GridCounts static_count(const filtration::Filtration& f, std::size_t m,
   return cliques::count_on_grid(ordered, {point}, o, progress);
 }
 
+bool static_counts_cheaper(std::vector<std::size_t> edge_counts) {
+  std::sort(edge_counts.begin(), edge_counts.end());
+  edge_counts.erase(std::unique(edge_counts.begin(), edge_counts.end()), edge_counts.end());
+  std::size_t last = 0;
+  for (std::size_t m : edge_counts) last = std::max(last, m);
+  if (last == 0) return true;
+  double cost = 0.0;
+  for (std::size_t m : edge_counts) cost += std::pow(static_cast<double>(m) / static_cast<double>(last), 8.0);
+  return cost <= 2.0;
+}
+
 StaticCounts count_selected(const filtration::Filtration& f, const std::vector<filtration::GridPoint>& grid,
-                            const Selection& selection, const cliques::Options& base,
+                            const Selection& selection, bool walk, const cliques::Options& base,
                             const cliques::GridCounts* chi_pass, const std::function<bool(double)>& progress) {
   StaticCounts out;
   out.sources.resize(grid.size());
   out.stopped.assign(grid.size(), "");
-  // One count per distinct edge count; reserved first, so the sources' pointers stay put.
-  std::map<std::size_t, std::size_t> by_edges;
-  for (std::size_t g : selection.points) by_edges.emplace(std::min(grid[g].edges, f.edges.size()), 0);
-  out.counts.reserve(by_edges.size());
-  for (auto& [m, k] : by_edges) {
-    k = out.counts.size();
-    out.counts.push_back(static_count(f, m, base, progress));
+  // Distinct edge counts, each read from one point of one count.
+  std::map<std::size_t, std::pair<std::size_t, std::size_t>> by_edges;  // m -> (count, point)
+  for (std::size_t g : selection.points) by_edges.emplace(std::min(grid[g].edges, f.edges.size()), std::make_pair(0, 0));
+  if (walk) {
+    std::vector<filtration::GridPoint> points;
+    for (auto& [m, where] : by_edges) {
+      where = {0, points.size()};
+      filtration::GridPoint p;
+      p.edges = m;
+      p.density = p.requested = f.density(m);
+      points.push_back(p);
+    }
+    filtration::Filtration cut = f;
+    cut.edges.resize(by_edges.empty() ? 0 : by_edges.rbegin()->first);
+    cliques::Options o = base;
+    o.chi_only = false;
+    o.node_counts = false;
+    o.node_curvature = true;
+    o.max_density.reset();
+    out.counts.push_back(cliques::count_on_grid(cut, points, o, progress));
+  } else {
+    out.counts.reserve(by_edges.size());  // reserved: the sources' pointers stay put
+    for (auto& [m, where] : by_edges) {
+      where = {out.counts.size(), 0};
+      out.counts.push_back(static_count(f, m, base, progress));
+    }
   }
   for (std::size_t g : selection.points) {
-    const cliques::GridCounts& c = out.counts[by_edges.at(std::min(grid[g].edges, f.edges.size()))];
-    if (c.complete_points == 0) {
+    const auto [k, point] = by_edges.at(std::min(grid[g].edges, f.edges.size()));
+    const cliques::GridCounts& c = out.counts[k];
+    if (point >= c.complete_points) {
       out.stopped[g] = c.stopped_by.empty() ? "incomplete" : c.stopped_by;
       continue;
     }
     // The complex does not depend on the order its edges entered in: chi must agree.
-    if (chi_pass && g < chi_pass->complete_points && chi_pass->chi[g] != c.chi[0])
-      fail(ErrorKind::internal, "curvature: the static count at grid point " + std::to_string(g) + " gives chi = " +
-                                    to_decimal(c.chi[0]) + " but the chi pass gives " + to_decimal(chi_pass->chi[g]));
-    out.sources[g] = {&c, 0};
+    if (chi_pass && g < chi_pass->complete_points && chi_pass->chi[g] != c.chi[point])
+      fail(ErrorKind::internal, "curvature: the count at grid point " + std::to_string(g) + " gives chi = " +
+                                    to_decimal(c.chi[point]) + " but the chi pass gives " + to_decimal(chi_pass->chi[g]));
+    out.sources[g] = {&c, point};
   }
   return out;
 }

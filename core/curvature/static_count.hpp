@@ -45,16 +45,25 @@ filtration::Filtration static_order(const filtration::Filtration& f, std::size_t
 cliques::GridCounts static_count(const filtration::Filtration& f, std::size_t m, const cliques::Options& base,
                                  const std::function<bool(double)>& progress);
 
-// One static count per distinct edge count among the selected points. Where the chi
-// pass (`chi_pass`, may be null) is complete at a point, its exact chi must equal the
-// static count's (ErrorKind::internal otherwise). `sources[g]` says where to read point g.
+// The counting rule of Options::Count::automatic: static counts unless
+//   sum over the distinct chosen edge counts m_i of (m_i / m_last)^8 > 2,
+// a cost model measured on a 400-region series (docs/methods.md): near the top a
+// static count costs about (m / m_last)^8 of the last one's, and the walk to m_last
+// about twice the last static count.
+bool static_counts_cheaper(std::vector<std::size_t> edge_counts);  // repeats count once
+
+// Node curvature sums at the selected points: one static count per distinct edge count,
+// or (walk) one walk along the filtration to the last selected point reading only the
+// selected points. Where the chi pass (`chi_pass`, may be null) is complete at a point,
+// its exact chi must equal the count's (ErrorKind::internal otherwise). `sources[g]`
+// says where to read point g.
 struct StaticCounts {
   std::vector<cliques::GridCounts> counts;
   std::vector<PointSource> sources;  // one per grid point; counts == nullptr where not computed
   std::vector<std::string> stopped;  // per grid point: a budget that stopped its count, else ""
 };
 StaticCounts count_selected(const filtration::Filtration& f, const std::vector<filtration::GridPoint>& grid,
-                            const Selection& selection, const cliques::Options& base,
+                            const Selection& selection, bool walk, const cliques::Options& base,
                             const cliques::GridCounts* chi_pass, const std::function<bool(double)>& progress);
 
 }  // namespace critplex::curvature

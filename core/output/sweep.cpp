@@ -257,8 +257,9 @@ namespace {
 Json selection_json(const pipeline::SweepResult& r, const curvature::OnGrid& c) {
   const curvature::Selection& s = c.selection;
   Json j{{"mode", curvature::at_name(s.at)},
-         {"method", s.at == curvature::Options::At::grid ? "one walk along the filtration"
-                                                         : "one static count of the graph per point (degeneracy order)"}};
+         {"method", s.at == curvature::Options::At::grid || s.walk
+                        ? "one walk along the filtration"
+                        : "one static count of the graph per point (degeneracy order)"}};
   Json computed = Json::array(), densities = Json::array();
   for (std::size_t g = 0; g < c.points.size(); ++g)
     if (c.points[g].computed) {
@@ -523,6 +524,10 @@ Json sweep_options_json(const pipeline::SweepOptions& o) {
     if (!c.forman_range.empty()) k["forman_range"] = c.forman_range;
     k["at"] = c.at == curvature::Options::At::list ? Json(c.at_densities) : Json(curvature::at_name(c.at));
     if (c.at == curvature::Options::At::transitions) k["window"] = c.window;
+    if (c.at != curvature::Options::At::grid)
+      k["count"] = c.count == curvature::Options::Count::walk          ? "walk"
+                   : c.count == curvature::Options::Count::static_graph ? "static"
+                                                                        : "auto";
     j["curvature"] = std::move(k);
   }
   j["transitions"] = Json{{"enabled", o.transitions.enabled}, {"random_graph", o.transitions.random_graph},

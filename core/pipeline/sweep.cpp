@@ -263,12 +263,18 @@ SweepResult run_sweep(const connectivity::Matrix& matrix, const SweepOptions& op
     std::vector<char> in_range(result.grid.size(), 0);
     for (std::size_t g = 0; g < result.grid.size(); ++g)
       in_range[g] = range.grid.size() == result.grid.size() || result.grid[g].density <= *curvature_limit + 1e-12;
-    const curvature::Selection selection =
+    curvature::Selection selection =
         options.curvature->at == curvature::Options::At::list
             ? curvature::select_listed(result.filtration, result.grid, in_range, options.curvature->at_densities)
             : curvature::select_transitions(result.grid, in_range, result.chi_curve(), options.curvature->window);
-    const curvature::StaticCounts counts = curvature::count_selected(
-        result.filtration, result.grid, selection, *options.cliques, result.cliques ? &*result.cliques : nullptr, progress);
+    std::vector<std::size_t> edge_counts;
+    for (std::size_t g : selection.points) edge_counts.push_back(result.grid[g].edges);
+    selection.walk = options.curvature->count == curvature::Options::Count::walk ||
+                     (options.curvature->count == curvature::Options::Count::automatic &&
+                      !curvature::static_counts_cheaper(edge_counts));
+    const curvature::StaticCounts counts =
+        curvature::count_selected(result.filtration, result.grid, selection, selection.walk, *options.cliques,
+                                  result.cliques ? &*result.cliques : nullptr, progress);
     result.curvature = curvature::on_grid(range.filtration(result.filtration), result.grid, counts.sources, *options.curvature);
     result.curvature->selection = selection;
     result.curvature->stopped = counts.stopped;

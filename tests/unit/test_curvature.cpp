@@ -660,3 +660,36 @@ TEST_CASE("curvature.at and curvature.window are checked", "[curvature]") {
   CHECK_ERROR_KIND_WITH(pipeline::parse_sweep_options(Json{{"curvature", Json{{"at", {0.6}}, {"max_density", 0.4}}}}),
                         ErrorKind::argument, "curvature.at");
 }
+
+TEST_CASE("chosen points counted by a walk or by static counts agree; the automatic rule", "[curvature]") {
+  // reference: brute-force clique listing above (Knill 2011 curvature, exact rationals)
+  std::mt19937_64 rng(79);
+  connectivity::Matrix m;
+  m.values = brain_like(18, 120, rng);
+  for (int i = 0; i < 18; ++i) m.names.push_back("r" + std::to_string(i));
+  std::vector<pipeline::SweepResult> runs;
+  for (const char* count : {"static", "walk"}) {
+    const Json options{{"grid", 0.05}, {"weights", "absolute"},
+                       {"curvature", Json{{"at", {0.15, 0.4, 0.7}}, {"count", count}}}};
+    runs.push_back(pipeline::run_sweep(m, pipeline::parse_sweep_options(options), {}));
+  }
+  CHECK_FALSE(runs[0].curvature->selection.walk);
+  CHECK(runs[1].curvature->selection.walk);
+  CHECK(runs[0].curvature->selection.points == std::vector<std::size_t>{3, 8, 14});
+  for (std::size_t g = 0; g < runs[0].grid.size(); ++g) {
+    REQUIRE(runs[0].curvature->points[g].computed == runs[1].curvature->points[g].computed);
+    if (!runs[0].curvature->points[g].computed) continue;
+    const Brute b = brute_force(18, prefix(runs[0].filtration, runs[0].grid[g].edges));
+    CHECK(runs[0].curvature->points[g].kappa == node_curvature(b.node_counts).kappa);
+    CHECK(runs[1].curvature->points[g].kappa == node_curvature(b.node_counts).kappa);
+  }
+  // The rule: sum (m_i / m_last)^8 <= 2 keeps static counts.
+  CHECK(static_counts_cheaper({1000}));
+  CHECK(static_counts_cheaper({250, 500, 750, 1000}));  // 0.25^8 + 0.5^8 + 0.75^8 + 1 = 1.104
+  CHECK(static_counts_cheaper({990, 1000}));            // 0.923 + 1
+  CHECK(static_counts_cheaper({1000, 1000, 1000}));     // one count
+  CHECK_FALSE(static_counts_cheaper({900, 950, 1000}));  // 0.43 + 0.66 + 1 = 2.09
+  CHECK_ERROR_KIND_WITH(parse_options(Json{{"count", "walk"}}), ErrorKind::argument, "curvature.count");
+  CHECK_ERROR_KIND_WITH(parse_options(Json{{"at", "transitions"}, {"count", "fast"}}), ErrorKind::argument,
+                        "curvature.count");
+}
