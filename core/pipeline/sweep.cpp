@@ -257,7 +257,8 @@ SweepResult run_sweep(const connectivity::Matrix& matrix, const SweepOptions& op
   }
   // Curvature: node curvature with Gauss-Bonnet checked at every point, Forman-Ricci.
   // Over a shorter range than chi's (or beside chi_only) it gets its own full count.
-  // At chosen points only (curvature.at), one static count of the graph per point.
+  // At chosen points only (curvature.at): one static count of the graph per point, or
+  // one walk to the last of them when that is expected to be cheaper (curvature.count).
   if (options.curvature && !curvature_on_grid) {
     const EngineRange range = engine_range(result.filtration, result.grid, curvature_limit);
     std::vector<char> in_range(result.grid.size(), 0);
