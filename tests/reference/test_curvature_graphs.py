@@ -40,6 +40,14 @@ def graph_matrix(n, edges):
     return m
 
 
+def random_symmetric(rng, n):
+    """A symmetric matrix of normal draws with a unit diagonal (invented test data)."""
+    a = rng.standard_normal((n, n))
+    m = (a + a.T) / 2
+    np.fill_diagonal(m, 1.0)
+    return m
+
+
 def kappa_networkx(g):
     """Exact node curvature as Fractions from networkx's list of every clique."""
     kappa = {v: Fraction(0) for v in g.nodes}
@@ -149,10 +157,7 @@ class AgainstNetworkx(unittest.TestCase):
     def test_random_matrices(self):
         rng = np.random.default_rng(20261202)
         for n in (8, 13, 17):
-            a = rng.standard_normal((n, n))
-            m = (a + a.T) / 2
-            np.fill_diagonal(m, 1.0)
-            self.check_sweep(m, "absolute", 0.1)
+            self.check_sweep(random_symmetric(rng, n), "absolute", 0.1)
 
     def test_real_fmri_correlations(self):
         data = np.genfromtxt(NITIME_CSV, delimiter=",", skip_header=1)[:, 3:]
@@ -206,9 +211,7 @@ class ChosenPoints(unittest.TestCase):
     def test_listed_densities_on_random_matrices(self):
         rng = np.random.default_rng(20261203)
         for n in (9, 14, 18):
-            a = rng.standard_normal((n, n))
-            m = (a + a.T) / 2
-            np.fill_diagonal(m, 1.0)
+            m = random_symmetric(rng, n)
             s = critplex.sweep(m, weights="absolute", grid=0.1, curvature={"at": [0.35, 0.8]}).json()
             # the last grid point at or below each density: 0.3 (index 3) and 0.8 (index 8)
             self.check_points(s, m, "absolute", [3, 8])
