@@ -11,6 +11,17 @@ namespace critplex::curvature {
 
 OnGrid on_grid(const filtration::Filtration& f, const std::vector<filtration::GridPoint>& grid,
                const cliques::GridCounts& counts, const Options& options) {
+  std::vector<PointSource> sources(grid.size());
+  for (std::size_t g = 0; g < grid.size() && g < counts.complete_points; ++g) sources[g] = {&counts, g};
+  OnGrid c = on_grid(f, grid, sources, options);
+  for (std::size_t g = 0; g < grid.size(); ++g)
+    if (c.points[g].computed) c.selection.points.push_back(g);
+  return c;
+}
+
+OnGrid on_grid(const filtration::Filtration& f, const std::vector<filtration::GridPoint>& grid,
+               const std::vector<PointSource>& sources, const Options& options) {
+  if (sources.size() != grid.size()) fail(ErrorKind::internal, "curvature: one count source per grid point");
   OnGrid c;
   c.options = options;
   c.points.resize(grid.size());
@@ -49,15 +60,18 @@ OnGrid on_grid(const filtration::Filtration& f, const std::vector<filtration::Gr
   NodeCurvature last;  // the previous point's: on a fine grid most nodes keep their value
   for (std::size_t g = 0; g < grid.size(); ++g) {
     PointCurvature& p = c.points[g];
+    if (sources[g].counts == nullptr) continue;
+    const cliques::GridCounts& counts = *sources[g].counts;
+    const std::size_t at = sources[g].index;
     // Preferably the engine's per-node sums (taken in its counting tree); node clique
     // counts, when that is what the engine was asked for, give the same values.
-    const bool have_sums = g < counts.curvature_numerators.size() && !counts.curvature_numerators[g].empty();
-    const bool have_counts = g < counts.node_counts.size() && !counts.node_counts[g].empty();
-    if (g < counts.complete_points && (have_sums || have_counts)) {
-      NodeCurvature nc = have_sums ? node_curvature_from_sums(counts.curvature_numerators[g], counts.curvature_denominator,
+    const bool have_sums = at < counts.curvature_numerators.size() && !counts.curvature_numerators[at].empty();
+    const bool have_counts = at < counts.node_counts.size() && !counts.node_counts[at].empty();
+    if (at < counts.complete_points && (have_sums || have_counts)) {
+      NodeCurvature nc = have_sums ? node_curvature_from_sums(counts.curvature_numerators[at], counts.curvature_denominator,
                                                               counts.curvature_exact, &last)
-                                   : node_curvature(counts.node_counts[g]);
-      p.gauss_bonnet = check_gauss_bonnet(nc, counts.chi[g]);
+                                   : node_curvature(counts.node_counts[at]);
+      p.gauss_bonnet = check_gauss_bonnet(nc, counts.chi[at]);
       if (have_sums) last = nc;
       p.kappa = std::move(nc.kappa);
       p.computed = true;

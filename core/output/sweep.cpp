@@ -259,6 +259,47 @@ Json node_curves(const std::vector<std::string>& names, const curvature::OnGrid&
 }
 }  // namespace
 
+namespace {
+// Where node curvature was computed and why (curvature.at).
+Json selection_json(const pipeline::SweepResult& r, const curvature::OnGrid& c) {
+  const curvature::Selection& s = c.selection;
+  Json j{{"mode", curvature::at_name(s.at)},
+         {"method", s.at == curvature::Options::At::grid || s.walk
+                        ? "one walk along the filtration"
+                        : "one static count of the graph per point (degeneracy order)"}};
+  Json computed = Json::array(), densities = Json::array();
+  for (std::size_t g = 0; g < c.points.size(); ++g)
+    if (c.points[g].computed) {
+      computed.push_back(g);
+      densities.push_back(r.grid[g].density);
+    }
+  j["points"] = std::move(computed);
+  j["densities"] = std::move(densities);
+  if (s.at == curvature::Options::At::list) {
+    Json snapped = Json::array();
+    for (const auto& x : s.snapped)
+      snapped.push_back(Json{{"requested", x.requested}, {"index", x.index}, {"density", r.grid[x.index].density}});
+    j["snapped"] = std::move(snapped);
+    j["snap"] = "the last grid point at or below each density";
+  }
+  if (s.at == curvature::Options::At::transitions) {
+    j["window"] = s.window;
+    Json zeros = Json::array();
+    for (const auto& z : s.zeros)
+      zeros.push_back(Json{{"density", z.density}, {"direction", transitions::direction_name(z.direction)},
+                           {"touch", z.touch}, {"left", z.left}, {"right", z.right}});
+    j["chi_zeros"] = std::move(zeros);
+  }
+  if (s.at != curvature::Options::At::grid) {
+    Json stopped = Json::array();
+    for (std::size_t g = 0; g < c.stopped.size(); ++g)
+      if (!c.stopped[g].empty()) stopped.push_back(Json{{"index", g}, {"stopped_by", c.stopped[g]}});
+    j["stopped"] = std::move(stopped);
+  }
+  return j;
+}
+}  // namespace
+
 Json curvature_section(const pipeline::SweepResult& r) {
   const curvature::OnGrid& c = *r.curvature;
   Json j;
@@ -293,6 +334,7 @@ Json curvature_section(const pipeline::SweepResult& r) {
   j["gauss_bonnet"] = Json{{"points_checked", checked}, {"all_exact", c.all_exact},
                            {"max_relative_error", c.max_relative_error}};
   j["points"] = std::move(points);
+  j["node_curvature_at"] = selection_json(r, c);
   if (c.options.node_curves) {
     j["node_kappa"] = node_curves(r.names, c, [](const curvature::PointCurvature& p, std::size_t i) {
       return p.computed && i < p.kappa.size() ? Json(p.kappa[i]) : Json(nullptr);
@@ -493,6 +535,12 @@ Json sweep_options_json(const pipeline::SweepOptions& o) {
     if (!c.node_range.empty()) k["range"] = c.node_range;
     if (!c.forman_range.empty()) k["forman_range"] = c.forman_range;
     if (c.max_density) k["max_density"] = *c.max_density;
+    k["at"] = c.at == curvature::Options::At::list ? Json(c.at_densities) : Json(curvature::at_name(c.at));
+    if (c.at == curvature::Options::At::transitions) k["window"] = c.window;
+    if (c.at != curvature::Options::At::grid)
+      k["count"] = c.count == curvature::Options::Count::walk          ? "walk"
+                   : c.count == curvature::Options::Count::static_graph ? "static"
+                                                                        : "auto";
     j["curvature"] = std::move(k);
   }
   j["transitions"] = Json{{"enabled", o.transitions.enabled}, {"random_graph", o.transitions.random_graph},

@@ -4,6 +4,7 @@
 #include <limits>
 
 #include "base/error.hpp"
+#include "curvature/static_count.hpp"
 
 namespace critplex::pipeline {
 
@@ -163,9 +164,19 @@ void resolve_engine_ranges(SweepOptions& o, std::size_t nodes) {
     if (!c.chi_only && !c.counts_max_density) c.counts_max_density = limit(std::min(d.counts, value(c.max_density)));
   }
   if (o.homology && !o.homology->max_density) o.homology->max_density = limit(d.homology);
-  if (o.curvature && !o.curvature->max_density)
-    o.curvature->max_density = o.cliques->chi_only ? limit(std::min(d.counts, value(o.cliques->max_density)))
-                                                   : o.cliques->counts_max_density;
+  // Node curvature on the whole grid needs every clique size: the counts' range. At
+  // chosen points (curvature.at) it needs one count per point: a list sets its own
+  // range, the transitions are looked for up to the Betti curves' default range.
+  if (o.curvature && !o.curvature->max_density) {
+    if (o.curvature->at == curvature::Options::At::list)  // the listed points are the user's range
+      o.curvature->max_density = o.cliques->max_density;
+    else if (o.curvature->at == curvature::Options::At::transitions)
+      o.curvature->max_density = limit(std::min(d.homology, value(o.cliques->max_density)));
+    else if (o.cliques->chi_only)
+      o.curvature->max_density = limit(std::min(d.counts, value(o.cliques->max_density)));
+    else
+      o.curvature->max_density = o.cliques->counts_max_density;
+  }
   // The Erdos-Renyi reference is searched up to the furthest engine range, not beyond.
   if (o.transitions.max_p == 0.0) {
     double furthest = 0.0;
@@ -197,6 +208,12 @@ void SweepOptions::validate() const {
   if (cliques) check_engine_range(cliques->counts_max_density, grid.max_density, "cliques.counts_max_density");
   if (homology) check_engine_range(homology->max_density, grid.max_density, "homology.max_density");
   if (curvature) check_engine_range(curvature->max_density, grid.max_density, "curvature.max_density");
+  if (curvature)
+    for (double rho : curvature->at_densities)
+      if (rho > std::min(grid.max_density, curvature->max_density.value_or(1.0)) + 1e-12)
+        fail(ErrorKind::argument, "sweep options: \"curvature.at\" density " + quoted_value(Json(rho)) +
+                                      " is beyond the curvature range (max_density " +
+                                      quoted_value(Json(std::min(grid.max_density, curvature->max_density.value_or(1.0)))) + ")");
 }
 
 SweepOptions parse_sweep_options(const Json& options) {
@@ -282,7 +299,8 @@ SweepResult run_sweep(const connectivity::Matrix& matrix, const SweepOptions& op
   // the counts range, the counting walk also sums each node's Gauss-Bonnet share.
   std::optional<cliques::GridCounts> every_size, curvature_counts;
   const std::optional<double> curvature_limit = run.curvature ? run.curvature->max_density : std::nullopt;
-  const bool shared_counts = run.curvature && !run.cliques->chi_only &&
+  const bool curvature_on_grid = run.curvature && run.curvature->at == curvature::Options::At::grid;
+  const bool shared_counts = curvature_on_grid && !run.cliques->chi_only &&
                              curvature_limit.value_or(2.0) == run.cliques->counts_max_density.value_or(2.0);
   if (run.cliques) {
     const cliques::Options& c = *run.cliques;
@@ -322,7 +340,29 @@ SweepResult run_sweep(const connectivity::Matrix& matrix, const SweepOptions& op
   }
   // Curvature: node curvature with Gauss-Bonnet checked at every point, Forman-Ricci.
   // Over a shorter range than chi's (or beside chi_only) it gets its own full count.
-  if (run.curvature) {
+  // At chosen points only (curvature.at): one static count of the graph per point, or
+  // one walk to the last of them when that is expected to be cheaper (curvature.count).
+  if (run.curvature && !curvature_on_grid) {
+    const EngineRange range = engine_range(result.filtration, result.grid, curvature_limit);
+    std::vector<char> in_range(result.grid.size(), 0);
+    for (std::size_t g = 0; g < result.grid.size(); ++g)
+      in_range[g] = range.grid.size() == result.grid.size() || result.grid[g].density <= *curvature_limit + 1e-12;
+    curvature::Selection selection =
+        run.curvature->at == curvature::Options::At::list
+            ? curvature::select_listed(result.filtration, result.grid, in_range, run.curvature->at_densities)
+            : curvature::select_transitions(result.grid, in_range, result.chi_curve(), run.curvature->window);
+    std::vector<std::size_t> edge_counts;
+    for (std::size_t g : selection.points) edge_counts.push_back(result.grid[g].edges);
+    selection.walk = run.curvature->count == curvature::Options::Count::walk ||
+                     (run.curvature->count == curvature::Options::Count::automatic &&
+                      !curvature::static_counts_cheaper(edge_counts));
+    const curvature::StaticCounts counts =
+        curvature::count_selected(result.filtration, result.grid, selection, selection.walk, *run.cliques,
+                                  result.cliques ? &*result.cliques : nullptr, progress);
+    result.curvature = curvature::on_grid(range.filtration(result.filtration), result.grid, counts.sources, *run.curvature);
+    result.curvature->selection = selection;
+    result.curvature->stopped = counts.stopped;
+  } else if (run.curvature) {
     const EngineRange range = engine_range(result.filtration, result.grid, curvature_limit);
     if (!shared_counts) {
       cliques::Options copt = *run.cliques;

@@ -40,6 +40,14 @@ def graph_matrix(n, edges):
     return m
 
 
+def random_symmetric(rng, n):
+    """A symmetric matrix of normal draws with a unit diagonal (invented test data)."""
+    a = rng.standard_normal((n, n))
+    m = (a + a.T) / 2
+    np.fill_diagonal(m, 1.0)
+    return m
+
+
 def kappa_networkx(g):
     """Exact node curvature as Fractions from networkx's list of every clique."""
     kappa = {v: Fraction(0) for v in g.nodes}
@@ -149,16 +157,65 @@ class AgainstNetworkx(unittest.TestCase):
     def test_random_matrices(self):
         rng = np.random.default_rng(20261202)
         for n in (8, 13, 17):
-            a = rng.standard_normal((n, n))
-            m = (a + a.T) / 2
-            np.fill_diagonal(m, 1.0)
-            self.check_sweep(m, "absolute", 0.1)
+            self.check_sweep(random_symmetric(rng, n), "absolute", 0.1)
 
     def test_real_fmri_correlations(self):
         data = np.genfromtxt(NITIME_CSV, delimiter=",", skip_header=1)[:, 3:]
         m = np.corrcoef(data, rowvar=False)
         s = self.check_sweep(m, "positive", 0.05, max_density=0.5)
         self.assertEqual(len(s["curvature"]["node_kappa"]["values"]), 28)
+
+
+class ChosenPoints(unittest.TestCase):
+    """curvature.at: node curvature only at chosen grid points, from static counts (or a
+    walk to the last chosen point), null elsewhere."""
+
+    def check_points(self, s, matrix, mode, expected_points):
+        c = s["curvature"]
+        self.assertEqual(c["node_curvature_at"]["points"], expected_points)
+        self.assertEqual(c["gauss_bonnet"]["points_checked"], len(expected_points))
+        for point in range(len(s["grid"])):
+            got = [curve[point] for curve in c["node_kappa"]["values"]]
+            if point not in expected_points:
+                self.assertTrue(all(x is None for x in got))
+                self.assertIsNone(c["points"][point]["node"])
+                continue
+            # reference: networkx.enumerate_all_cliques, kappa summed exactly in Fractions
+            expected = kappa_networkx(graph_at(s, matrix, point, mode))
+            for v, x in enumerate(got):
+                self.assertAlmostEqual(x, float(expected[v]), delta=1e-12 * max(1, abs(float(expected[v]))))
+            # Gauss-Bonnet (Knill 2011): the exact sum is the networkx graph's chi
+            self.assertEqual(c["points"][point]["gauss_bonnet"]["chi"], str(sum(expected.values())))
+
+    def test_transitions_on_real_fmri_correlations(self):
+        data = np.genfromtxt(NITIME_CSV, delimiter=",", skip_header=1)[:, 3:]
+        m = np.corrcoef(data, rowvar=False)
+        for count in ("static", "walk"):
+            s = critplex.sweep(m, grid=0.02, max_density=0.6,
+                               curvature={"at": "transitions", "window": 1, "count": count}).json()
+            at = s["curvature"]["node_curvature_at"]
+            self.assertGreater(len(at["chi_zeros"]), 0)
+            # reference: the sign changes of the exact chi column, read here
+            chi = [int(p["chi"]) for p in s["cliques"]["points"]]
+            expected = set()
+            for zero in at["chi_zeros"]:
+                left, right = zero["left"], zero["right"]
+                self.assertNotEqual(chi[left], 0)
+                self.assertNotEqual(chi[right], 0)
+                self.assertTrue(all(x == 0 for x in chi[left + 1:right]))
+                expected.update(range(max(0, left - 1), min(len(chi) - 1, right + 1) + 1))
+            sign_changes = sum(1 for a, b in zip([x for x in chi if x], [x for x in chi if x][1:]) if (a > 0) != (b > 0))
+            self.assertEqual(sum(1 for z in at["chi_zeros"] if not z["touch"]), sign_changes)
+            self.check_points(s, m, "positive", sorted(expected))
+
+    def test_listed_densities_on_random_matrices(self):
+        rng = np.random.default_rng(20261203)
+        for n in (9, 14, 18):
+            m = random_symmetric(rng, n)
+            s = critplex.sweep(m, weights="absolute", grid=0.1, curvature={"at": [0.35, 0.8]}).json()
+            # the last grid point at or below each density: 0.3 (index 3) and 0.8 (index 8)
+            self.check_points(s, m, "absolute", [3, 8])
+            self.assertEqual([x["index"] for x in s["curvature"]["node_curvature_at"]["snapped"]], [3, 8])
 
 
 class NodeCurvatureCall(unittest.TestCase):

@@ -12,6 +12,7 @@
 #include "cliques/counts.hpp"
 #include "curvature/curvature.hpp"
 #include "curvature/on_grid.hpp"
+#include "curvature/static_count.hpp"
 #include "filtration/filtration.hpp"
 #include "output/sweep.hpp"
 #include "pipeline/sweep.hpp"
@@ -468,4 +469,227 @@ TEST_CASE("Forman-Ricci edge by edge equals the recomputation at every prefix", 
       if (m >= 4) CHECK(freedman_diaconis_bins_tally(sweep.tally(), 60) == freedman_diaconis_bins(want.edge_values, 60));
     }
   }
+}
+
+// ---- Node curvature at chosen points (curvature.at): one static count per point ----
+
+namespace {
+
+// A matrix whose positive-mode filtration enters `edges` in list order (weights 1, 1 -
+// 1/E, ...) and nothing else (every other pair is -1).
+connectivity::Matrix matrix_entering(std::size_t n, const EdgeList& edges) {
+  connectivity::Matrix m;
+  m.values = Eigen::MatrixXd::Constant(static_cast<Eigen::Index>(n), static_cast<Eigen::Index>(n), -1.0);
+  for (std::size_t k = 0; k < edges.size(); ++k) {
+    const double w = 1.0 - static_cast<double>(k) / static_cast<double>(edges.size() + 1);
+    m.values(edges[k].first, edges[k].second) = m.values(edges[k].second, edges[k].first) = w;
+  }
+  m.values.diagonal().setOnes();
+  for (std::size_t i = 0; i < n; ++i) m.names.push_back("r" + std::to_string(i));
+  return m;
+}
+
+// K_{a,b} (parts 0..a-1 and a..a+b-1), edges shuffled: triangle-free.
+EdgeList complete_bipartite(std::uint32_t a, std::uint32_t b, std::mt19937_64& rng) {
+  EdgeList e;
+  for (std::uint32_t u = 0; u < a; ++u)
+    for (std::uint32_t v = a; v < a + b; ++v) e.emplace_back(u, v);
+  std::shuffle(e.begin(), e.end(), rng);
+  return e;
+}
+
+}  // namespace
+
+TEST_CASE("static counts give the walk's node curvature and the brute-force listing's", "[curvature]") {
+  // reference: brute-force clique listing above, kappa_i = sum_k (-1)^k Cl_{i,k} / (k+1)
+  // (Knill 2011) in exact rationals, and Gauss-Bonnet sum_i kappa_i = chi (Knill 2011)
+  std::mt19937_64 rng(67);
+  std::vector<filtration::Filtration> cases;
+  for (int trial = 0; trial < 5; ++trial) {
+    const std::size_t n = 9 + 3 * static_cast<std::size_t>(trial);
+    EdgeList e = random_graph(n, 0.3 + 0.1 * trial, rng);
+    std::shuffle(e.begin(), e.end(), rng);
+    cases.push_back(in_order(n, e));
+  }
+  cases.push_back(in_order(6, octahedron()));
+  cases.push_back(in_order(12, icosahedron()));
+  for (int trial = 0; trial < 3; ++trial)
+    cases.push_back(filtration::build(brain_like(16, 100, rng), filtration::WeightMode::positive));
+  for (const auto& f : cases) {
+    filtration::GridSpec spec;
+    spec.step = 0.1;
+    const auto grid = filtration::make_grid(f, spec);
+    cliques::Options walk_options;
+    walk_options.node_curvature = true;
+    const cliques::GridCounts walk = cliques::count_on_grid(f, grid, walk_options, {});
+    REQUIRE(walk.complete_points == grid.size());
+    for (std::size_t g = 0; g < grid.size(); ++g) {
+      const std::size_t m = grid[g].edges;
+      // The reordered filtration holds the same edges.
+      const filtration::Filtration ordered = static_order(f, m);
+      std::set<std::pair<std::uint32_t, std::uint32_t>> same, reordered;
+      for (std::size_t i = 0; i < m; ++i) same.emplace(f.edges[i].u, f.edges[i].v);
+      for (const auto& e : ordered.edges) reordered.emplace(e.u, e.v);
+      CHECK(same == reordered);
+      CHECK(ordered.edges.size() == m);
+
+      const Brute b = brute_force(f.nodes, prefix(f, m));
+      const NodeCurvature want = node_curvature(b.node_counts);
+      for (int threads : {1, 2}) {
+        cliques::Options base;
+        base.threads = threads;
+        const cliques::GridCounts s = static_count(f, m, base, {});
+        REQUIRE(s.complete_points == 1);
+        CHECK(s.chi[0] == b.chi);
+        CHECK(s.chi[0] == walk.chi[g]);
+        const NodeCurvature got = node_curvature_from_sums(s.curvature_numerators[0], s.curvature_denominator,
+                                                           s.curvature_exact);
+        const NodeCurvature walked = node_curvature_from_sums(walk.curvature_numerators[g], walk.curvature_denominator,
+                                                              walk.curvature_exact);
+        for (std::size_t i = 0; i < f.nodes; ++i) {
+          CHECK(got.kappa[i] == want.kappa[i]);
+          CHECK(got.kappa[i] == walked.kappa[i]);
+        }
+        const GaussBonnet gb = check_gauss_bonnet(got, s.chi[0]);
+        CHECK(gb.exact);
+      }
+    }
+  }
+}
+
+TEST_CASE("curvature at the transitions: the grid points around the zero of a known chi curve", "[curvature]") {
+  // reference: the flag complex of a triangle-free graph is the graph itself, so
+  // chi = N - m (Euler's formula for a graph); on K_{5,5} (N = 10, 25 edges) chi is
+  // positive for m < 10, zero at m = 10 and negative after: one zero, bracketed by the
+  // grid points m = 9 and m = 11 on the "every" grid.
+  std::mt19937_64 rng(71);
+  const connectivity::Matrix m = matrix_entering(10, complete_bipartite(5, 5, rng));
+  for (std::size_t window : {0u, 2u, 10u}) {
+    Json options{{"grid", "every"}, {"curvature", Json{{"at", "transitions"}, {"window", window}}}};
+    const pipeline::SweepResult r = pipeline::run_sweep(m, pipeline::parse_sweep_options(options), {});
+    REQUIRE(r.grid.size() == 26);
+    for (std::size_t g = 0; g < r.grid.size(); ++g) REQUIRE(r.cliques->chi[g] == int128(10) - int128(g));
+    const std::size_t first = window >= 9 ? 0 : 9 - window, last = 11 + window;
+    std::vector<std::size_t> expected;
+    for (std::size_t g = first; g <= last; ++g) expected.push_back(g);
+    CHECK(r.curvature->selection.points == expected);
+    REQUIRE(r.curvature->selection.zeros.size() == 1);
+    CHECK(r.curvature->selection.zeros[0].left == 9);
+    CHECK(r.curvature->selection.zeros[0].right == 11);
+    CHECK(r.curvature->selection.zeros[0].density == Approx(10.0 / 45.0));
+    for (std::size_t g = 0; g < r.grid.size(); ++g) {
+      const bool chosen = g >= first && g <= last;
+      CHECK(r.curvature->points[g].computed == chosen);
+      CHECK(r.curvature->points[g].forman_computed);  // Forman-Ricci stays on every point
+      if (!chosen) continue;
+      // Triangle-free: kappa_i = 1 - deg(i) / 2 (Knill 2011 with Cl_{i,1} = deg i only).
+      std::vector<std::size_t> degree(10, 0);
+      for (std::size_t e = 0; e < r.grid[g].edges; ++e) ++degree[r.filtration.edges[e].u], ++degree[r.filtration.edges[e].v];
+      for (std::size_t i = 0; i < 10; ++i)
+        CHECK(r.curvature->points[g].kappa[i] == 1.0 - static_cast<double>(degree[i]) / 2.0);
+      CHECK(r.curvature->points[g].gauss_bonnet.exact);
+    }
+    // Columns: values at the chosen points, missing elsewhere; the JSON says why.
+    const Json j = output::sweep_json(r);
+    const Json& at = j.at("curvature")["node_curvature_at"];
+    CHECK(at["mode"] == "transitions");
+    CHECK(at["window"] == window);
+    CHECK(at["points"] == Json(expected));
+    CHECK(at["chi_zeros"].size() == 1);
+    CHECK(at["chi_zeros"][0]["direction"] == "down");
+    for (const auto& column : output::curve_columns(r))
+      if (column.name == "kappa_mean")
+        for (std::size_t g = 0; g < r.grid.size(); ++g) CHECK(std::isnan(column.values[g]) == !(g >= first && g <= last));
+  }
+}
+
+TEST_CASE("curvature at listed densities snaps to the last grid point at or below", "[curvature]") {
+  // reference: the walk over the whole grid (at "grid") at the same points, and the
+  // grid's own rule m = floor(rho N (N - 1) / 2) (filtration::make_grid)
+  std::mt19937_64 rng(73);
+  connectivity::Matrix m;
+  m.values = brain_like(20, 120, rng);
+  for (int i = 0; i < 20; ++i) m.names.push_back("r" + std::to_string(i));
+  const Json grid_options{{"grid", 0.1}, {"weights", "absolute"}, {"curvature", Json::object()}};
+  const pipeline::SweepResult all = pipeline::run_sweep(m, pipeline::parse_sweep_options(grid_options), {});
+  const Json listed{{"grid", 0.1}, {"weights", "absolute"}, {"curvature", Json{{"at", {0.25, 0.3, 0.2999, 0.05}}}}};
+  const pipeline::SweepResult r = pipeline::run_sweep(m, pipeline::parse_sweep_options(listed), {});
+  // 0.25 and 0.2999 -> 0.2 (index 2), 0.3 -> index 3, 0.05 -> density 0 (index 0).
+  CHECK(r.curvature->selection.points == std::vector<std::size_t>{0, 2, 3});
+  REQUIRE(r.curvature->selection.snapped.size() == 4);
+  CHECK(r.curvature->selection.snapped[0].index == 2);
+  CHECK(r.curvature->selection.snapped[1].index == 3);
+  CHECK(r.curvature->selection.snapped[2].index == 2);
+  CHECK(r.curvature->selection.snapped[3].index == 0);
+  for (std::size_t g = 0; g < r.grid.size(); ++g) {
+    const bool chosen = g == 0 || g == 2 || g == 3;
+    CHECK(r.curvature->points[g].computed == chosen);
+    if (chosen) CHECK(r.curvature->points[g].kappa == all.curvature->points[g].kappa);
+  }
+  const Json j = output::sweep_json(r);
+  CHECK(j.at("curvature")["node_curvature_at"]["mode"] == "list");
+  CHECK(j.at("curvature")["node_curvature_at"]["snapped"].size() == 4);
+  CHECK(j.at("curvature")["gauss_bonnet"]["points_checked"] == 3);
+
+  // A density below every grid point: a list grid starting at 0.2.
+  const Json below{{"grid", {0.2, 0.4}}, {"curvature", Json{{"at", {0.1}}}}};
+  CHECK_ERROR_KIND_WITH(pipeline::run_sweep(m, pipeline::parse_sweep_options(below), {}), ErrorKind::argument,
+                        "curvature.at");
+}
+
+TEST_CASE("curvature.at and curvature.window are checked", "[curvature]") {
+  CHECK(parse_options(Json::object()).at == Options::At::grid);
+  CHECK(parse_options(Json::object()).window == 2);
+  CHECK(parse_options(Json{{"at", "transitions"}}).at == Options::At::transitions);
+  const Options listed = parse_options(Json{{"at", {0.1, 1.0}}});
+  CHECK(listed.at == Options::At::list);
+  CHECK(listed.at_densities == std::vector<double>{0.1, 1.0});
+  CHECK_ERROR_KIND_WITH(parse_options(Json{{"at", "transitions"}, {"window", -1}}), ErrorKind::argument, "curvature.window");
+  CHECK_ERROR_KIND_WITH(parse_options(Json{{"at", "transitions"}, {"window", 1.5}}), ErrorKind::argument, "curvature.window");
+  CHECK_ERROR_KIND_WITH(parse_options(Json{{"window", 3}}), ErrorKind::argument, "curvature.window");  // needs transitions
+  CHECK_ERROR_KIND_WITH(parse_options(Json{{"at", "sometimes"}}), ErrorKind::argument, "curvature.at");
+  CHECK_ERROR_KIND_WITH(parse_options(Json{{"at", {0.0}}}), ErrorKind::argument, "curvature.at");
+  CHECK_ERROR_KIND_WITH(parse_options(Json{{"at", {1.5}}}), ErrorKind::argument, "curvature.at");
+  CHECK_ERROR_KIND_WITH(parse_options(Json{{"at", {-0.2}}}), ErrorKind::argument, "curvature.at");
+  CHECK_ERROR_KIND_WITH(parse_options(Json{{"at", Json::array()}}), ErrorKind::argument, "curvature.at");
+  CHECK_ERROR_KIND_WITH(parse_options(Json{{"at", {"0.1"}}}), ErrorKind::argument, "curvature.at");
+  CHECK_ERROR_KIND_WITH(parse_options(Json{{"at", 0.1}}), ErrorKind::argument, "curvature.at");
+  // Beyond the sweep's (or the engine's) range.
+  CHECK_ERROR_KIND_WITH(pipeline::parse_sweep_options(Json{{"max_density", 0.5}, {"curvature", Json{{"at", {0.6}}}}}),
+                        ErrorKind::argument, "curvature.at");
+  CHECK_ERROR_KIND_WITH(pipeline::parse_sweep_options(Json{{"curvature", Json{{"at", {0.6}}, {"max_density", 0.4}}}}),
+                        ErrorKind::argument, "curvature.at");
+}
+
+TEST_CASE("chosen points counted by a walk or by static counts agree; the automatic rule", "[curvature]") {
+  // reference: brute-force clique listing above (Knill 2011 curvature, exact rationals)
+  std::mt19937_64 rng(79);
+  connectivity::Matrix m;
+  m.values = brain_like(18, 120, rng);
+  for (int i = 0; i < 18; ++i) m.names.push_back("r" + std::to_string(i));
+  std::vector<pipeline::SweepResult> runs;
+  for (const char* count : {"static", "walk"}) {
+    const Json options{{"grid", 0.05}, {"weights", "absolute"},
+                       {"curvature", Json{{"at", {0.15, 0.4, 0.7}}, {"count", count}}}};
+    runs.push_back(pipeline::run_sweep(m, pipeline::parse_sweep_options(options), {}));
+  }
+  CHECK_FALSE(runs[0].curvature->selection.walk);
+  CHECK(runs[1].curvature->selection.walk);
+  CHECK(runs[0].curvature->selection.points == std::vector<std::size_t>{3, 8, 14});
+  for (std::size_t g = 0; g < runs[0].grid.size(); ++g) {
+    REQUIRE(runs[0].curvature->points[g].computed == runs[1].curvature->points[g].computed);
+    if (!runs[0].curvature->points[g].computed) continue;
+    const Brute b = brute_force(18, prefix(runs[0].filtration, runs[0].grid[g].edges));
+    CHECK(runs[0].curvature->points[g].kappa == node_curvature(b.node_counts).kappa);
+    CHECK(runs[1].curvature->points[g].kappa == node_curvature(b.node_counts).kappa);
+  }
+  // The rule: sum (m_i / m_last)^8 <= 2 keeps static counts.
+  CHECK(static_counts_cheaper({1000}));
+  CHECK(static_counts_cheaper({250, 500, 750, 1000}));  // 0.25^8 + 0.5^8 + 0.75^8 + 1 = 1.104
+  CHECK(static_counts_cheaper({990, 1000}));            // 0.923 + 1
+  CHECK(static_counts_cheaper({1000, 1000, 1000}));     // one count
+  CHECK_FALSE(static_counts_cheaper({900, 950, 1000}));  // 0.43 + 0.66 + 1 = 2.09
+  CHECK_ERROR_KIND_WITH(parse_options(Json{{"count", "walk"}}), ErrorKind::argument, "curvature.count");
+  CHECK_ERROR_KIND_WITH(parse_options(Json{{"at", "transitions"}, {"count", "fast"}}), ErrorKind::argument,
+                        "curvature.count");
 }
