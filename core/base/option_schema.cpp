@@ -12,6 +12,11 @@ namespace critplex {
 namespace {
 std::string number_text(double x) {
   char buffer[32];
+  // Whole numbers as integers (100, not 1e+02), as a reader writes them.
+  if (x == std::floor(x) && std::fabs(x) < 1e15) {
+    std::snprintf(buffer, sizeof buffer, "%.0f", x);
+    return buffer;
+  }
   std::snprintf(buffer, sizeof buffer, "%.17g", x);
   // The shortest of %.17g's candidates that reads back the same.
   for (int digits = 1; digits <= 17; ++digits) {
