@@ -14,8 +14,6 @@
 
 namespace critplex::cliques {
 
-namespace {
-
 // Degeneracy order of the graph of all edges to be processed (Matula & Beck; Eppstein,
 // Loffler & Strash 2010): relabelling nodes by it puts the dense core together at the
 // end of every bitset row, so common neighbourhoods span few words.
@@ -51,6 +49,8 @@ std::vector<std::uint32_t> degeneracy_labels(std::size_t n, const std::vector<fi
   }
   return label;
 }
+
+namespace {
 
 // One contiguous run of edges handed to a worker; chunks are taken in increasing
 // order, so a worker only ever adds edges to its own copy of the graph.

@@ -74,6 +74,12 @@ struct GridCounts {
   std::vector<std::vector<Int256>> curvature_numerators;  // [grid point][node]; empty beyond complete_points
 };
 
+// Degeneracy order of the graph of the first m edges (Matula & Beck 1983): label[x] is
+// node x's position in it; `degeneracy` receives the largest degree a node has when it
+// is removed (no clique has more than degeneracy + 1 nodes).
+std::vector<std::uint32_t> degeneracy_labels(std::size_t n, const std::vector<filtration::Edge>& edges, std::size_t m,
+                                             std::size_t& degeneracy);
+
 // Counts on the grid. progress(fraction) returning true cancels (ErrorKind::cancelled);
 // it is called only on the calling thread. An empty function is allowed.
 GridCounts count_on_grid(const filtration::Filtration& f, const std::vector<filtration::GridPoint>& grid,

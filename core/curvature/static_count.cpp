@@ -15,36 +15,6 @@ namespace {
 
 std::string number_text(double x) { return quoted_value(Json(x)); }
 
-// Position of every node in a degeneracy order of the graph of the first m edges:
-// repeatedly remove a node of smallest remaining degree (Matula & Beck 1983).
-std::vector<std::size_t> degeneracy_positions(std::size_t n, const std::vector<filtration::Edge>& edges, std::size_t m) {
-  std::vector<std::vector<std::uint32_t>> adjacency(n);
-  for (std::size_t e = 0; e < m; ++e) {
-    adjacency[edges[e].u].push_back(edges[e].v);
-    adjacency[edges[e].v].push_back(edges[e].u);
-  }
-  std::vector<std::size_t> degree(n);
-  std::size_t top = 0;
-  for (std::size_t x = 0; x < n; ++x) top = std::max(top, degree[x] = adjacency[x].size());
-  std::vector<std::vector<std::uint32_t>> buckets(top + 1);
-  for (std::size_t x = n; x-- > 0;) buckets[degree[x]].push_back(static_cast<std::uint32_t>(x));
-  std::vector<char> removed(n, 0);
-  std::vector<std::size_t> position(n);
-  std::size_t next = 0, d = 0;
-  while (next < n) {
-    d = d > 0 ? d - 1 : 0;
-    while (buckets[d].empty()) ++d;
-    const std::uint32_t x = buckets[d].back();
-    buckets[d].pop_back();
-    if (removed[x] || degree[x] != d) continue;  // stale bucket entry
-    removed[x] = 1;
-    position[x] = next++;
-    for (std::uint32_t y : adjacency[x])
-      if (!removed[y]) buckets[--degree[y]].push_back(y);
-  }
-  return position;
-}
-
 }  // namespace
 
 Selection select_listed(const filtration::Filtration& f, const std::vector<filtration::GridPoint>& grid,
@@ -99,7 +69,8 @@ Selection select_transitions(const std::vector<filtration::GridPoint>& grid, con
 
 filtration::Filtration static_order(const filtration::Filtration& f, std::size_t m) {
   m = std::min(m, f.edges.size());
-  const std::vector<std::size_t> position = degeneracy_positions(f.nodes, f.edges, m);
+  std::size_t degeneracy = 0;
+  const std::vector<std::uint32_t> position = cliques::degeneracy_labels(f.nodes, f.edges, m, degeneracy);
   filtration::Filtration out;
   out.nodes = f.nodes;
   out.mode = f.mode;

@@ -258,7 +258,7 @@ std::string NullResult::warning() const {
   return buf;
 }
 
-std::optional<double> null_range(const SweepOptions& options, std::size_t nodes, std::optional<double> max_density) {
+double null_range(const SweepOptions& options, std::size_t nodes, std::optional<double> max_density) {
   // The default (docs/options.md, subject.null), within the clique engine's range.
   const std::optional<double> chi_range = options.cliques ? options.cliques->max_density : std::nullopt;
   if (!max_density) max_density = std::min(default_engine_ranges(nodes).null, chi_range.value_or(options.grid.max_density));
@@ -294,11 +294,11 @@ NullResult run_null_model(const NullSpec& spec, const series::Series& series,
 
   if (spec.model == "rewire_nested") {
     // One nested rewiring per draw (layers between grid points), chi in one pass.
-    const std::optional<double> limit = null_range(observed.options, observed.nodes, spec.max_density);
+    const double limit = null_range(observed.options, observed.nodes, spec.max_density);
     std::vector<filtration::GridPoint> grid;
     std::vector<std::size_t> ends;
     for (const auto& p : observed.grid) {
-      if (p.density > limit.value_or(std::numeric_limits<double>::infinity()) + 1e-12) break;
+      if (p.density > limit + 1e-12) break;
       grid.push_back(p);
       if (ends.empty() || p.edges > ends.back()) ends.push_back(p.edges);
     }

@@ -69,7 +69,7 @@ NullResult run_null_model(const NullSpec& spec, const series::Series& series,
 // homology, curvature or random-graph reference), which is all the comparison needs.
 // The null sweeps' range: max_density when given, else the default for `nodes` regions
 // (default_engine_ranges) within the clique engine's range, never past the sweep's.
-std::optional<double> null_range(const SweepOptions& options, std::size_t nodes, std::optional<double> max_density);
+double null_range(const SweepOptions& options, std::size_t nodes, std::optional<double> max_density);
 SweepOptions null_sweep_options(const SweepOptions& options, std::size_t nodes,
                                 std::optional<double> max_density = std::nullopt);
 
